@@ -1,0 +1,1172 @@
+package acquire
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+	"time"
+
+	"github.com/sweeplock/sweeplock/dsp"
+	"github.com/sweeplock/sweeplock/dsp/lockin"
+	"github.com/sweeplock/sweeplock/dsp/settle"
+)
+
+// BenchConfig sets up a Bench.
+type BenchConfig struct {
+	// Harmonics to measure; the first must be the fundamental (1).
+	Harmonics []lockin.Harmonic
+	// Response and Reference are channel indices in the source's blocks;
+	// Reference < 0 means no reference channel.
+	Response, Reference int
+	// RefVoltsPerDrive is the reference channel's volts per drive unit;
+	// with a reference channel the response is corrected by the ratio of
+	// the expected to the measured reference (removing the input's delay
+	// and AC coupling).
+	RefVoltsPerDrive float64
+	// Calibration: display value = (volts − OffsetV)/VoltsPerUnit.
+	VoltsPerUnit, OffsetV float64
+	// Unit is the displacement display unit ("mm").
+	Unit string
+	// SensorKind is "displacement", "velocity" or "acceleration"; velocity
+	// and acceleration amplitudes are turned into displacement per harmonic.
+	SensorKind string
+	Plan       Plan
+	DriveAmp   float64 // drive amplitude for the plan and for manual stepping
+	// MaxDisp is the displacement limit (display units, peak, 0 = none):
+	// beyond it the sweep stops and the drive ramps down.
+	MaxDisp float64
+	// SettleCycles is the length of the blocks the settle detector sees.
+	SettleCycles int
+	// ExpectedTauS is the rig's expected transient time constant (0 unknown).
+	ExpectedTauS float64
+	// SettleFloor is an absolute error floor in display units for the
+	// settle detector (responses near zero).
+	SettleFloor float64
+	// ThirdLimitPct raises the third-harmonic flag when the third
+	// harmonic's ratio to the fundamental exceeds it.
+	ThirdLimitPct float64
+	// RecordPath is the CSV to log to; it is created on the first logged
+	// point, or at Run's start when RecordEager.
+	RecordPath  string
+	RecordEager bool
+	// RawPath, when set, captures every block's samples and the drive to a
+	// float32 WAV file (see WAVWriter); the sidecar gives each logged
+	// point's frames in it.
+	RawPath string
+	// Sidecar is the template of the sidecar written beside the record.
+	Sidecar *Sidecar
+	// DriveOnAtStart switches the drive on at the first frequency at once.
+	DriveOnAtStart bool
+	// StartHz is the manual starting frequency (defaults to the plan start).
+	StartHz float64
+	// OnEvent, when set, is called from the bench's goroutine for each
+	// event; it must return quickly.
+	OnEvent func(Event)
+}
+
+// EventKind says what happened.
+type EventKind int
+
+const (
+	// EventLogged: a point is on disk.
+	EventLogged EventKind = iota
+	// EventJump: a jump was found in a sweep direction.
+	EventJump
+	// EventMessage: something worth telling the user.
+	EventMessage
+	// EventError: something went wrong; Text says what to do.
+	EventError
+	// EventSweepDone: the plan ran to its end.
+	EventSweepDone
+	// EventStopped: the bench stopped (Run returns).
+	EventStopped
+)
+
+// Event is a thing that happened on the bench.
+type Event struct {
+	Kind  EventKind
+	Point *Point
+	Jump  *JumpJSON
+	Text  string
+}
+
+// Bench runs the measurement: it reads blocks from a source, demodulates,
+// decides when the response is settled, moves the drive (by hand or by the
+// plan), logs points and publishes snapshots for the screen.
+type Bench struct {
+	cfg BenchConfig
+	src Source
+	drv Drive
+
+	cmds   chan func()
+	latest chan Snapshot
+
+	// loop state, touched only by the bench goroutine
+	mode      Mode
+	phase     PointPhase
+	driveOn   bool
+	freq, amp float64
+	step      float64
+	legDir    Direction
+	steps     []Step
+	planIdx   int
+	autoLog   bool
+	note      string
+	logReq    bool
+	forceReq  bool
+	now       float64
+	changeT   float64
+	setT      float64
+	blockS    float64
+	dc        float64
+	refDC     float64
+	pendingOK bool
+
+	fast *lockin.LockIn
+	live *lockin.LockIn
+	det  *settle.Detector
+	st   settle.Status
+
+	measK, measN int
+	measX        []float64
+	measR        []float64
+	measP        []float64
+	measT        []float64
+	measFlags    Flags
+
+	x, r    []float64 // calibrated response and reference of one block
+	scratch []float64
+
+	ring    []float64 // last frames of the calibrated response
+	ringPos int
+	ringN   int
+	trend   []float64
+	spec    *dsp.Spectrum
+	specBuf []float64
+
+	points   []Point
+	legPts   map[Direction][]jumpPoint
+	jumps    []JumpJSON
+	bandLo   float64
+	bandHi   float64
+	rec      *Recorder
+	raw      *WAVWriter
+	rawInfo  *RawInfo
+	frames   int64 // frames seen since Run started
+	measAt   int64 // frame index where the current measurement began
+	messages []string
+	errText  string
+	stopWhy  string
+	lastPub  time.Time
+	sidecar  *Sidecar
+	finished bool
+	runErr   error
+
+	liveAmp   []float64
+	livePhase []float64
+	noise     float64
+}
+
+// ErrBenchBusy: the command queue is full (the bench is not keeping up).
+var ErrBenchBusy = errors.New("acquire: bench busy, command dropped")
+
+// NewBench checks the configuration and makes a Bench. Call Run to start it.
+func NewBench(src Source, drv Drive, cfg BenchConfig) (*Bench, error) {
+	if len(cfg.Harmonics) == 0 {
+		cfg.Harmonics = lockin.Default()
+	}
+	if cfg.Harmonics[0] != (lockin.Harmonic{Num: 1, Den: 1}) {
+		return nil, fmt.Errorf("acquire: the first harmonic must be the fundamental \"1\", got %q", cfg.Harmonics[0])
+	}
+	if cfg.VoltsPerUnit == 0 {
+		return nil, errors.New("acquire: calibration volts_per_unit must not be zero")
+	}
+	if cfg.SettleCycles < 1 {
+		cfg.SettleCycles = 2
+	}
+	if cfg.ThirdLimitPct <= 0 {
+		cfg.ThirdLimitPct = 1
+	}
+	if cfg.SensorKind == "" {
+		cfg.SensorKind = "displacement"
+	}
+	info := src.Info()
+	if cfg.Response < 0 || cfg.Response >= len(info.Channels) {
+		return nil, fmt.Errorf("acquire: response channel %d: the source has channels 0..%d", cfg.Response, len(info.Channels)-1)
+	}
+	if cfg.Reference >= len(info.Channels) {
+		return nil, fmt.Errorf("acquire: reference channel %d: the source has channels 0..%d", cfg.Reference, len(info.Channels)-1)
+	}
+	if err := cfg.Plan.Validate(); err != nil {
+		return nil, err
+	}
+	if cfg.DriveAmp < 0 || (drv.Info().MaxAmp > 0 && cfg.DriveAmp > drv.Info().MaxAmp) {
+		return nil, fmt.Errorf("%w: %g %s asked, limit %g %s", ErrDriveLimit, cfg.DriveAmp, drv.Info().Unit, drv.Info().MaxAmp, drv.Info().Unit)
+	}
+	b := &Bench{cfg: cfg, src: src, drv: drv,
+		cmds:   make(chan func(), 64),
+		latest: make(chan Snapshot, 1),
+		legPts: map[Direction][]jumpPoint{},
+	}
+	var err error
+	b.fast, err = lockin.New(lockin.Config{Harmonics: []lockin.Harmonic{{Num: 1, Den: 1}}, Channels: 1,
+		Mode: lockin.Sync, Cycles: cfg.SettleCycles, RateHz: info.RateHz})
+	if err != nil {
+		return nil, fmt.Errorf("acquire: %w", err)
+	}
+	b.live, err = lockin.New(lockin.Config{Harmonics: cfg.Harmonics, Channels: 1, Mode: lockin.LowPass,
+		Order: 2, TimeConstant: 150 * time.Millisecond, RateHz: info.RateHz})
+	if err != nil {
+		return nil, fmt.Errorf("acquire: %w", err)
+	}
+	b.det = settle.New(settle.Config{Tol: cfg.Plan.SettleTol, Floor: cfg.SettleFloor,
+		MinBlocks:    int(math.Ceil(float64(cfg.Plan.MinDwellCycles) / float64(cfg.SettleCycles))),
+		MaxDwellS:    cfg.Plan.MaxDwell.Seconds(),
+		ExpectedTauS: cfg.ExpectedTauS, SlowFactor: 3})
+	b.steps = cfg.Plan.Steps()
+	b.freq = cfg.StartHz
+	if b.freq <= 0 {
+		b.freq = b.steps[0].FreqHz
+	}
+	b.amp = cfg.DriveAmp
+	b.step = cfg.Plan.stepNear(b.freq)
+	b.legDir = Manual
+	b.ring = make([]float64, 4096)
+	b.spec = dsp.NewSpectrum(len(b.ring), dsp.Hann, info.RateHz)
+	b.specBuf = make([]float64, len(b.ring))
+	b.liveAmp = make([]float64, len(cfg.Harmonics))
+	b.livePhase = make([]float64, len(cfg.Harmonics))
+	if cfg.Sidecar != nil {
+		sc := *cfg.Sidecar
+		b.sidecar = &sc
+	}
+	return b, nil
+}
+
+// Latest returns a channel that holds the newest snapshot (one slot; a
+// newer one replaces an unread older one).
+func (b *Bench) Latest() <-chan Snapshot { return b.latest }
+
+// do queues a command for the bench goroutine without blocking.
+func (b *Bench) do(f func()) error {
+	select {
+	case b.cmds <- f:
+		return nil
+	default:
+		return ErrBenchBusy
+	}
+}
+
+// DriveOn switches the drive on at the current frequency and amplitude.
+func (b *Bench) DriveOn() error { return b.do(func() { b.setDrive(b.freq, b.amp, true) }) }
+
+// DriveOff ramps the drive to zero.
+func (b *Bench) DriveOff() error { return b.do(func() { b.driveOff("drive switched off") }) }
+
+// StepUp moves the drive up by the step (manual mode).
+func (b *Bench) StepUp() error { return b.do(func() { b.manualMove(b.freq + b.step) }) }
+
+// StepDown moves the drive down by the step (manual mode).
+func (b *Bench) StepDown() error { return b.do(func() { b.manualMove(b.freq - b.step) }) }
+
+// SetFreq moves the drive to f (manual mode).
+func (b *Bench) SetFreq(f float64) error { return b.do(func() { b.manualMove(f) }) }
+
+// SetStep changes the manual step.
+func (b *Bench) SetStep(s float64) error {
+	return b.do(func() {
+		if s > 0 && !math.IsInf(s, 0) {
+			b.step = s
+			b.say(fmt.Sprintf("step is now %.4g Hz", s))
+		}
+	})
+}
+
+// SetAmp changes the drive amplitude within the limit.
+func (b *Bench) SetAmp(a float64) error {
+	return b.do(func() {
+		lim := b.drv.Info().MaxAmp
+		if a < 0 || (lim > 0 && a > lim) {
+			b.fail(fmt.Sprintf("drive amplitude %.4g %s refused: the limit is %.4g %s", a, b.drv.Info().Unit, lim, b.drv.Info().Unit))
+			return
+		}
+		b.amp = a
+		if b.driveOn {
+			b.setDrive(b.freq, a, true)
+		}
+	})
+}
+
+// LogNow logs the current point once measured; force logs it even if not
+// settled (marked so).
+func (b *Bench) LogNow(force bool) error {
+	return b.do(func() {
+		b.logReq = true
+		b.forceReq = force
+		if b.phase == PhaseHolding || (force && b.phase == PhaseSettling) {
+			b.startMeasure()
+		}
+	})
+}
+
+// SetAutoLog turns logging each settled point on or off.
+func (b *Bench) SetAutoLog(on bool) error {
+	return b.do(func() {
+		b.autoLog = on
+		if on && b.phase == PhaseHolding {
+			b.logReq = true
+			b.startMeasure()
+		}
+	})
+}
+
+// SetNote attaches a note to the next logged point.
+func (b *Bench) SetNote(s string) error { return b.do(func() { b.note = s }) }
+
+// StartSweep runs the plan from its first point.
+func (b *Bench) StartSweep() error {
+	return b.do(func() {
+		b.mode = ModeSweep
+		b.planIdx = 0
+		b.legPts = map[Direction][]jumpPoint{}
+		b.say(fmt.Sprintf("sweep started: %d points", len(b.steps)))
+		b.gotoPlan()
+	})
+}
+
+// Pause holds the sweep at the current point.
+func (b *Bench) Pause() error {
+	return b.do(func() {
+		if b.mode == ModeSweep {
+			b.mode = ModePaused
+			b.say("sweep paused")
+		}
+	})
+}
+
+// Resume continues a paused sweep at the point it left.
+func (b *Bench) Resume() error {
+	return b.do(func() {
+		if b.mode == ModePaused {
+			b.mode = ModeSweep
+			b.say("sweep resumed")
+			b.gotoPlan()
+		}
+	})
+}
+
+// StopSweep ends the sweep and ramps the drive down.
+func (b *Bench) StopSweep() error {
+	return b.do(func() {
+		if b.mode == ModeSweep || b.mode == ModePaused {
+			b.mode = ModeDone
+			b.stopWhy = "stopped by the user"
+			b.driveOff("sweep stopped; drive ramped down")
+		}
+	})
+}
+
+// Reverse turns the remaining sweep around: from the current point it goes
+// the other way back to the plan's edge.
+func (b *Bench) Reverse() error {
+	return b.do(func() {
+		if b.mode != ModeSweep && b.mode != ModePaused {
+			return
+		}
+		cur := b.freq
+		dir := Down
+		if b.legDir == Down {
+			dir = Up
+		}
+		var rest []Step
+		leg := b.cfg.Plan.legFreqs()
+		if dir == Up {
+			for _, f := range leg {
+				if f > cur+1e-9 {
+					rest = append(rest, Step{f, Up})
+				}
+			}
+		} else {
+			for i := len(leg) - 1; i >= 0; i-- {
+				if leg[i] < cur-1e-9 {
+					rest = append(rest, Step{leg[i], Down})
+				}
+			}
+		}
+		b.steps = append(append([]Step(nil), b.steps[:b.planIdx]...), rest...)
+		b.say("sweep reversed: now going " + dir.String())
+		b.gotoPlan()
+	})
+}
+
+func (b *Bench) say(s string) {
+	b.messages = append(b.messages, s)
+	if len(b.messages) > 50 {
+		b.messages = b.messages[len(b.messages)-50:]
+	}
+	b.emit(Event{Kind: EventMessage, Text: s})
+}
+
+func (b *Bench) fail(s string) {
+	b.errText = s
+	b.messages = append(b.messages, "error: "+s)
+	b.emit(Event{Kind: EventError, Text: s})
+}
+
+func (b *Bench) emit(e Event) {
+	if b.cfg.OnEvent != nil {
+		b.cfg.OnEvent(e)
+	}
+}
+
+// setDrive asks the drive for (f, a) and starts a new point.
+func (b *Bench) setDrive(f, a float64, on bool) {
+	if f <= 0 || math.IsNaN(f) || math.IsInf(f, 0) {
+		b.fail(fmt.Sprintf("frequency %.4g Hz refused: it must be positive", f))
+		return
+	}
+	info := b.src.Info()
+	if info.RateHz > 0 && f > info.RateHz/(2*b.maxHarmonic()) {
+		b.fail(fmt.Sprintf("frequency %.4g Hz refused: harmonic %.4g would pass the Nyquist frequency %.4g Hz", f, b.maxHarmonic(), info.RateHz/2))
+		return
+	}
+	if b.drv.Info().Coherent && info.RateHz > 0 {
+		f, b.measK, b.measN = b.coherent(f)
+	} else {
+		b.measK = b.cfg.Plan.MeasureCycles
+		b.measN = 0
+	}
+	if err := b.drv.Set(f, a); err != nil {
+		b.fail(err.Error())
+		return
+	}
+	if on && !b.driveOn {
+		b.say("drive on: " + SafetyNote)
+	}
+	b.freq, b.amp, b.driveOn = f, a, on
+	b.phase = PhaseChanging
+	b.changeT = b.now
+	b.logReq = b.mode == ModeSweep || b.autoLog
+	b.forceReq = false
+}
+
+func (b *Bench) maxHarmonic() float64 {
+	m := 1.0
+	for _, h := range b.cfg.Harmonics {
+		m = math.Max(m, h.Ratio())
+	}
+	return m
+}
+
+// coherent picks the exact frequency near f for which the measurement block
+// (at least MeasureCycles cycles, a multiple of every subharmonic's
+// denominator) spans whole samples.
+func (b *Bench) coherent(f float64) (float64, int, int) {
+	den := 1
+	for _, h := range b.cfg.Harmonics {
+		den = lcm(den, h.Den)
+	}
+	rate := b.src.Info().RateHz
+	minK := b.cfg.Plan.MeasureCycles
+	tol := math.Max(b.step/50, f*1e-6)
+	bestF, bestK, bestN, bestE := f, 0, 0, math.Inf(1)
+	for k := (minK + den - 1) / den * den; k <= 4*minK+den; k += den {
+		n := int(math.Round(float64(k) * rate / f))
+		fk := float64(k) * rate / float64(n)
+		if e := math.Abs(fk - f); e < bestE {
+			bestF, bestK, bestN, bestE = fk, k, n, e
+		}
+		if bestE <= tol {
+			break
+		}
+	}
+	return bestF, bestK, bestN
+}
+
+func lcm(a, b int) int {
+	g, h := a, b
+	for h != 0 {
+		g, h = h, g%h
+	}
+	return a / g * b
+}
+
+func (b *Bench) manualMove(f float64) {
+	if b.mode == ModeSweep {
+		b.mode = ModePaused
+		b.say("sweep paused for a manual step; resume to continue the plan")
+	}
+	b.legDir = Manual
+	b.setDrive(f, b.amp, true)
+}
+
+// gotoPlan sets the drive to the plan's current step.
+func (b *Bench) gotoPlan() {
+	if b.planIdx >= len(b.steps) {
+		b.finishSweep()
+		return
+	}
+	s := b.steps[b.planIdx]
+	b.legDir = s.Direction
+	b.step = b.cfg.Plan.stepNear(s.FreqHz)
+	b.setDrive(s.FreqHz, b.cfg.DriveAmp, true)
+}
+
+func (b *Bench) finishSweep() {
+	b.mode = ModeDone
+	b.stopWhy = ""
+	b.driveOff("sweep finished; drive ramped down")
+	b.writeSidecar(true)
+	b.emit(Event{Kind: EventSweepDone, Text: "sweep finished"})
+}
+
+func (b *Bench) driveOff(msg string) {
+	if b.driveOn || b.drv.Amp() > 0 {
+		ctx, cancel := context.WithCancel(context.Background())
+		cancel() // Off must not block the loop: start the ramp, do not wait
+		_ = b.drv.Off(ctx)
+	}
+	b.driveOn = false
+	b.phase = PhaseOff
+	b.say(msg)
+}
+
+// Run reads the source until ctx ends, the source fails or Stop ends the
+// plan in a headless run. On the way out it ramps the drive down (while
+// still reading the source, so a simulated rig keeps producing the ramp),
+// closes the record and writes the sidecar.
+func (b *Bench) Run(ctx context.Context) error {
+	info := b.src.Info()
+	if b.cfg.RecordEager {
+		if err := b.openRecord(); err != nil {
+			return err
+		}
+	}
+	if b.cfg.RawPath != "" {
+		w, err := CreateWAV(b.cfg.RawPath, len(info.Channels)+RawDriveChannels, info.RateHz)
+		if err != nil {
+			return err
+		}
+		b.raw = w
+		b.rawInfo = &RawInfo{File: b.cfg.RawPath, RateHz: info.RateHz,
+			Channels: append(append([]string(nil), info.Channels...), "drive_phase_frac_cyc", "drive_hz", "drive_amp")}
+	}
+	if b.cfg.DriveOnAtStart {
+		b.setDrive(b.freq, b.amp, true)
+	}
+	blocks := b.src.Blocks()
+	b.publish(true)
+	for {
+		select {
+		case <-ctx.Done():
+			if b.stopWhy == "" {
+				b.stopWhy = "interrupted"
+			}
+			return b.shutdown(nil)
+		case f := <-b.cmds:
+			f()
+			b.publish(true)
+		case blk, ok := <-blocks:
+			if !ok {
+				err := b.src.Err()
+				if err == nil {
+					err = fmt.Errorf("%w: the %s source %q ended", ErrDisconnected, info.Kind, info.Name)
+				}
+				b.fail(err.Error())
+				b.stopWhy = err.Error()
+				return b.shutdown(err)
+			}
+			b.onBlock(blk)
+			b.src.Release(blk)
+			if b.runErr != nil {
+				return b.shutdown(b.runErr)
+			}
+			b.publish(false)
+		}
+	}
+}
+
+// shutdown ramps the drive to zero, reading blocks meanwhile, then closes
+// the record.
+func (b *Bench) shutdown(err error) error {
+	if b.drv.Amp() > 0 || b.driveOn {
+		done := make(chan struct{})
+		octx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+		go func() { _ = b.drv.Off(octx); close(done) }()
+		blocks := b.src.Blocks()
+	wait:
+		for {
+			select {
+			case <-done:
+				break wait
+			case blk, ok := <-blocks:
+				if !ok {
+					<-done
+					break wait
+				}
+				b.src.Release(blk)
+			}
+		}
+		cancel()
+		b.driveOn = false
+		b.phase = PhaseOff
+		b.say(fmt.Sprintf("drive ramped down (now %.3g %s)", b.drv.Amp(), b.drv.Info().Unit))
+	}
+	if b.raw != nil {
+		if cerr := b.raw.Close(); cerr != nil && err == nil {
+			err = cerr
+		}
+	}
+	b.writeSidecar(b.mode == ModeDone && b.stopWhy == "")
+	if b.rec != nil {
+		if cerr := b.rec.Close(); cerr != nil && err == nil {
+			err = cerr
+		}
+	}
+	b.finished = true
+	b.publish(true)
+	b.emit(Event{Kind: EventStopped, Text: b.stopWhy})
+	return err
+}
+
+func (b *Bench) openRecord() error {
+	if b.rec != nil || b.cfg.RecordPath == "" {
+		return nil
+	}
+	cols := Columns{Unit: b.cfg.Unit, DriveUnit: b.drv.Info().Unit}
+	for _, h := range b.cfg.Harmonics {
+		cols.Harmonics = append(cols.Harmonics, h.String())
+	}
+	rec, err := CreateRecord(b.cfg.RecordPath, cols)
+	if err != nil {
+		return err
+	}
+	b.rec = rec
+	b.writeSidecar(false)
+	return nil
+}
+
+func (b *Bench) writeSidecar(completed bool) {
+	if b.rec == nil || b.sidecar == nil {
+		return
+	}
+	sc := b.sidecar
+	sc.Format = SidecarFormat
+	sc.Record = b.rec.Path()
+	sc.Source = b.src.Info()
+	sc.Drive = b.drv.Info()
+	sc.Unit = b.cfg.Unit
+	sc.SensorKind = b.cfg.SensorKind
+	sc.VoltsPerUnit, sc.OffsetV = b.cfg.VoltsPerUnit, b.cfg.OffsetV
+	sc.Harmonics = nil
+	for _, h := range b.cfg.Harmonics {
+		sc.Harmonics = append(sc.Harmonics, h.String())
+	}
+	if sc.Started.IsZero() {
+		sc.Started = time.Now().UTC()
+	}
+	st := b.src.Stats()
+	ns := 0
+	for _, p := range b.points {
+		if !p.Settled {
+			ns++
+		}
+	}
+	if b.rawInfo != nil {
+		ri := *b.rawInfo
+		sc.Raw = &ri
+	}
+	sc.Summary = &Summary{Finished: time.Now().UTC(), Points: len(b.points), NotSettled: ns,
+		Jumps: b.jumps, BandLoHz: b.bandLo, BandHiHz: b.bandHi, Completed: completed,
+		StopReason: b.stopWhy, Gaps: st.Gaps, Overloads: st.Overloads, Dropped: st.Dropped}
+	if err := WriteSidecar(SidecarPath(b.rec.Path()), sc); err != nil {
+		b.fail(err.Error())
+	}
+}
+
+// onBlock processes one block of samples.
+func (b *Bench) onBlock(blk *Block) {
+	n := blk.Frames
+	ch := blk.Channels
+	b.now = blk.StartS + float64(n)/blk.RateHz
+	blockFirst := b.frames
+	b.frames += int64(n)
+	if b.raw != nil {
+		if err := b.raw.WriteBlock(blk); err != nil {
+			b.fail(err.Error())
+			b.runErr = err
+			return
+		}
+	}
+	if cap(b.x) < n {
+		b.x = make([]float64, n)
+		b.r = make([]float64, n)
+	}
+	x, r := b.x[:n], b.r[:n]
+	peak := 0.0
+	for i := 0; i < n; i++ {
+		v := (blk.Data[i*ch+b.cfg.Response] - b.cfg.OffsetV) / b.cfg.VoltsPerUnit
+		x[i] = v
+		if a := math.Abs(v - b.dc); a > peak {
+			peak = a
+		}
+		if b.cfg.Reference >= 0 {
+			r[i] = blk.Data[i*ch+b.cfg.Reference]
+		}
+		b.ring[b.ringPos] = v
+		b.ringPos = (b.ringPos + 1) % len(b.ring)
+	}
+	b.ringN += n
+	if b.cfg.MaxDisp > 0 && peak > b.cfg.MaxDisp && b.ringN > len(b.ring)/4 {
+		b.limitStop(peak)
+		return
+	}
+	ph := blk.PhaseCyc
+	if ph == nil {
+		// Without the drive's phase there is nothing to demodulate against;
+		// this source needs a reference-tracking phase (not yet wired).
+		if b.errText == "" {
+			b.fail("this source gives no drive phase; a reference channel and phase tracking are needed")
+		}
+		return
+	}
+	t := blk.TimeS
+	spoiled := blk.Flags&(FlagGap|FlagOverload) != 0
+	if spoiled {
+		b.fast.Reset()
+		b.live.Reset()
+		if b.phase == PhaseMeasuring {
+			b.measX = b.measX[:0]
+			b.measFlags |= blk.Flags
+			b.say(fmt.Sprintf("%s in the samples at %.4g Hz: measuring the point again", blk.Flags, b.freq))
+		}
+	}
+	if b.phase == PhaseChanging {
+		if math.Abs(blk.DriveHz-b.freq) <= 1e-9*b.freq && math.Abs(blk.DriveAmp-b.amp) <= 1e-9*math.Max(b.amp, 1e-300) {
+			b.startSettle(blk)
+		}
+	}
+	// Feed the fast lock-in chunk by chunk; a chunk ends where a settle block ends.
+	off := 0
+	for off < n {
+		var tt []float64
+		if t != nil {
+			tt = t[off:]
+		}
+		used, done := b.pushDC(b.fast, x[off:], tt, ph[off:])
+		if b.phase == PhaseMeasuring {
+			if len(b.measX) == 0 {
+				b.measAt = blockFirst + int64(off)
+			}
+			b.measAppend(x[off:off+used], r[off:off+used], ph[off:off+used], tt, used, blk, off)
+		}
+		off += used
+		if done {
+			b.onSettleBlock()
+			if b.phase == PhaseMeasuring && len(b.measX) == 0 && off < n {
+				// measurement starts at the next frame
+				continue
+			}
+		}
+		if used == 0 {
+			break
+		}
+	}
+	b.pushLive(x, t, ph)
+	if b.phase == PhaseMeasuring && b.measN > 0 && len(b.measX) >= b.measN {
+		b.finishMeasure()
+	}
+}
+
+// pushDC feeds x less the running offset estimate.
+func (b *Bench) pushDC(l *lockin.LockIn, x, t, ph []float64) (int, bool) {
+	// Subtract the offset known so far so a non-coherent block does not
+	// leak the DC level into the fundamental.
+	n, done := b.pushOffset(l, x, t, ph, b.dc)
+	if done {
+		b.dc += l.Result().Offset(0)
+	}
+	return n, done
+}
+
+func (b *Bench) pushLive(x, t, ph []float64) {
+	for len(ph) > 0 {
+		n, _ := b.pushOffset(b.live, x, t, ph, b.dc)
+		if n == 0 {
+			break
+		}
+		x, ph = x[n:], ph[n:]
+		if t != nil {
+			t = t[n:]
+		}
+	}
+	for i, h := range b.cfg.Harmonics {
+		z := b.toDisp(b.live.Value(0, i), h)
+		b.liveAmp[i] = cmplx.Abs(z)
+		b.livePhase[i] = cmplx.Phase(z) * 180 / math.Pi
+	}
+}
+
+// pushOffset feeds a lock-in with x less dc, through the bench's scratch
+// buffer.
+func (b *Bench) pushOffset(l *lockin.LockIn, x, t, ph []float64, dc float64) (int, bool) {
+	s := b.scratch[:0]
+	for _, v := range x[:len(ph)] {
+		s = append(s, v-dc)
+	}
+	b.scratch = s
+	return l.Push(s, t, ph)
+}
+
+// toDisp turns a harmonic's complex amplitude of the sensor quantity into
+// displacement (velocity: divide by jω; acceleration: by −ω²).
+func (b *Bench) toDisp(z complex128, h lockin.Harmonic) complex128 {
+	w := 2 * math.Pi * b.freq * h.Ratio()
+	switch b.cfg.SensorKind {
+	case "velocity":
+		return z / complex(0, w)
+	case "acceleration":
+		return z / complex(-w*w, 0)
+	}
+	return z
+}
+
+func (b *Bench) startSettle(blk *Block) {
+	b.phase = PhaseSettling
+	b.setT = blk.StartS
+	b.blockS = float64(b.cfg.SettleCycles) / b.freq
+	b.fast.Reset()
+	b.det.Reset(b.blockS)
+	b.st = settle.Status{}
+	b.trend = b.trend[:0]
+}
+
+func (b *Bench) onSettleBlock() {
+	z := b.toDisp(b.fast.Result().At(0, 0), lockin.Harmonic{Num: 1, Den: 1})
+	b.trend = append(b.trend, cmplx.Abs(z))
+	if len(b.trend) > 600 {
+		b.trend = b.trend[len(b.trend)-600:]
+	}
+	if b.phase != PhaseSettling && b.phase != PhaseHolding {
+		return
+	}
+	b.st = b.det.Update(z)
+	if b.phase == PhaseHolding {
+		return
+	}
+	switch b.st.State {
+	case settle.Settled, settle.GaveUp:
+		if b.st.State == settle.GaveUp {
+			b.say(fmt.Sprintf("%.4g Hz did not settle within %v: logged as not settled", b.freq, b.cfg.Plan.MaxDwell))
+		}
+		if b.logReq {
+			b.startMeasure()
+		} else {
+			b.phase = PhaseHolding
+		}
+	}
+}
+
+func (b *Bench) startMeasure() {
+	b.phase = PhaseMeasuring
+	b.measX, b.measR, b.measP, b.measT = b.measX[:0], b.measR[:0], b.measP[:0], b.measT[:0]
+	b.measFlags = 0
+	if b.measN == 0 {
+		// no coherent length known: a whole number of cycles at the nominal rate
+		b.measN = int(math.Round(float64(b.measK) * b.src.Info().RateHz / b.freq))
+	}
+}
+
+func (b *Bench) measAppend(x, r, ph, t []float64, n int, blk *Block, off int) {
+	need := b.measN - len(b.measX)
+	if need <= 0 {
+		return
+	}
+	if n > need {
+		n = need
+	}
+	b.measX = append(b.measX, x[:n]...)
+	b.measR = append(b.measR, r[:n]...)
+	b.measP = append(b.measP, ph[:n]...)
+	for i := 0; i < n; i++ {
+		b.measT = append(b.measT, blk.Frame(off+i))
+	}
+}
+
+func (b *Bench) finishMeasure() {
+	n := b.measN
+	x, ph, t := b.measX[:n], b.measP[:n], b.measT[:n]
+	p := Point{Index: len(b.points), TimeS: b.now, Clock: time.Now(), FreqSetHz: b.freq,
+		DriveAmp: b.drv.Amp(), Flags: b.measFlags}
+	if b.mode == ModeSweep {
+		p.Direction = b.legDir
+	} else {
+		p.Direction = Manual
+	}
+	zs := coherentDemod(x, ph, b.cfg.Harmonics)
+	corr := complex(1, 0)
+	if b.cfg.Reference >= 0 && b.cfg.RefVoltsPerDrive != 0 {
+		zr := coherentDemod(b.measR[:n], ph, b.cfg.Harmonics[:1])[0]
+		if zr != 0 {
+			corr = complex(p.DriveAmp*b.cfg.RefVoltsPerDrive, 0) / zr
+		}
+	}
+	amps := make([]float64, len(zs))
+	for i, h := range b.cfg.Harmonics {
+		z := zs[i]
+		if corr != 1 {
+			z *= complex(cmplx.Abs(corr), 0) * cmplx.Rect(1, h.Ratio()*cmplx.Phase(corr))
+		}
+		z = b.toDisp(z, h)
+		p.Amp = append(p.Amp, cmplx.Abs(z))
+		p.PhaseDeg = append(p.PhaseDeg, cmplx.Phase(z)*180/math.Pi)
+		amps[i] = cmplx.Abs(z)
+	}
+	intAmps := amps[:0:0]
+	for i, h := range b.cfg.Harmonics {
+		if h.Den == 1 {
+			intAmps = append(intAmps, amps[i])
+		}
+	}
+	p.THD = dsp.THD(intAmps)
+	if fit, err := dsp.Fit4(t, x, b.freq); err == nil {
+		p.FreqMeasHz = fit.FreqHz
+	} else {
+		p.FreqMeasHz = math.NaN()
+	}
+	p.NoiseDensity = noiseFloor(x, b.src.Info().RateHz, b.freq, b.cfg.Harmonics)
+	b.noise = p.NoiseDensity
+	p.Dwell = time.Duration((b.now - b.changeT) * float64(time.Second))
+	p.TauS = b.st.TauS
+	switch {
+	case b.st.State == settle.Settled:
+		p.Settled, p.SettleState = true, "settled"
+	case b.st.State == settle.GaveUp:
+		p.SettleState = "gave-up"
+	default:
+		p.SettleState = "forced"
+	}
+	p.Note = b.note
+	if err := b.openRecord(); err != nil {
+		b.fail(err.Error())
+		b.runErr = err
+		return
+	}
+	if b.rec != nil {
+		if err := b.rec.Write(p); err != nil {
+			b.fail(err.Error())
+			b.runErr = err
+			return
+		}
+	}
+	if b.raw != nil {
+		b.rawInfo.Points = append(b.rawInfo.Points, RawPoint{Point: p.Index, FirstFrame: b.measAt, Frames: int64(n)})
+		if err := b.raw.Sync(); err != nil {
+			b.fail(err.Error())
+		}
+	}
+	b.note = ""
+	b.points = append(b.points, p)
+	b.writeSidecar(false)
+	where := "memory"
+	if b.rec != nil {
+		where = b.rec.Path()
+	}
+	b.say(fmt.Sprintf("logged point %d at %.4f Hz: %.4g %s (%s) to %s", p.Index, p.FreqSetHz, p.Amp[0], b.cfg.Unit, p.SettleState, where))
+	b.emit(Event{Kind: EventLogged, Point: &b.points[len(b.points)-1]})
+	b.logReq = false
+	b.phase = PhaseHolding
+	if b.mode == ModeSweep {
+		b.findJumps(p)
+		b.planIdx++
+		b.gotoPlan()
+	}
+	b.publish(true)
+}
+
+func (b *Bench) findJumps(p Point) {
+	d := p.Direction
+	b.legPts[d] = append(b.legPts[d], jumpPoint{FreqHz: p.FreqSetHz, Amp: p.Amp[0]})
+	found := findJumpsShim(b.legPts[d])
+	known := 0
+	for _, j := range b.jumps {
+		if j.Direction == d.String() {
+			known++
+		}
+	}
+	for i := known; i < len(found); i++ {
+		j := found[i]
+		jj := JumpJSON{Direction: d.String(), FromHz: j.FromHz, ToHz: j.ToHz, AmpBefore: j.AmpBefore, AmpAfter: j.AmpAfter, Rise: j.Rise}
+		b.jumps = append(b.jumps, jj)
+		kind := "down"
+		if j.Rise {
+			kind = "up"
+		}
+		b.say(fmt.Sprintf("jump %s on the %s sweep between %.4f and %.4f Hz", kind, d, j.FromHz, j.ToHz))
+		b.emit(Event{Kind: EventJump, Jump: &b.jumps[len(b.jumps)-1]})
+	}
+	b.updateBand()
+}
+
+func (b *Bench) updateBand() {
+	var up, down *JumpJSON
+	for i := range b.jumps {
+		switch b.jumps[i].Direction {
+		case "up":
+			up = &b.jumps[i]
+		case "down":
+			down = &b.jumps[i]
+		}
+	}
+	if up == nil || down == nil {
+		return
+	}
+	mu := (up.FromHz + up.ToHz) / 2
+	md := (down.FromHz + down.ToHz) / 2
+	b.bandLo, b.bandHi = math.Min(mu, md), math.Max(mu, md)
+}
+
+func (b *Bench) limitStop(peak float64) {
+	msg := fmt.Sprintf("displacement %.4g %s passed the limit %.4g %s at %.4f Hz: sweep stopped, drive ramped down", peak, b.cfg.Unit, b.cfg.MaxDisp, b.cfg.Unit, b.freq)
+	b.stopWhy = msg
+	if b.mode == ModeSweep || b.mode == ModePaused {
+		b.mode = ModeDone
+	}
+	b.driveOff(msg)
+	b.fail(msg)
+	b.runErr = fmt.Errorf("%w: %s", ErrDisplacementLimit, msg)
+}
+
+// publish hands the screen a fresh snapshot, at most every 40 ms unless
+// forced.
+func (b *Bench) publish(force bool) {
+	now := time.Now()
+	if !force && now.Sub(b.lastPub) < 40*time.Millisecond {
+		return
+	}
+	b.lastPub = now
+	s := b.snapshot()
+	select {
+	case <-b.latest:
+	default:
+	}
+	b.latest <- s
+}
+
+func (b *Bench) snapshot() Snapshot {
+	info := b.src.Info()
+	s := Snapshot{TimeS: b.now, Source: info, Stats: b.src.Stats(), Drive: b.drv.Info(),
+		DriveOn: b.driveOn, FreqHz: b.freq, AmpSet: b.amp, AmpNow: b.drv.Amp(), StepHz: b.step,
+		LimitAmp: b.drv.Info().MaxAmp, LimitDisp: b.cfg.MaxDisp, Mode: b.mode, Direction: b.legDir,
+		PlanDone: b.planIdx, PlanTotal: len(b.steps), AutoLog: b.autoLog, NextNote: b.note,
+		Phase: b.phase, Settle: b.st, Unit: b.cfg.Unit, THD: 0, Noise: b.noise,
+		ThirdLimit: b.cfg.ThirdLimitPct, TrendDt: b.blockS,
+		Points: b.points, Jumps: b.jumps, BandLoHz: b.bandLo, BandHiHz: b.bandHi,
+		Err: b.errText, Finished: b.finished}
+	if b.phase >= PhaseSettling {
+		s.SinceSetS = b.now - b.setT
+	}
+	if b.rec != nil {
+		s.RecordPath = b.rec.Path()
+	}
+	s.Messages = append([]string(nil), b.messages...)
+	var intAmps []float64
+	for i, h := range b.cfg.Harmonics {
+		s.Harmonics = append(s.Harmonics, h.String())
+		if h.Den == 1 {
+			intAmps = append(intAmps, b.liveAmp[i])
+		}
+		if h == (lockin.Harmonic{Num: 3, Den: 1}) && b.liveAmp[0] > 0 {
+			s.ThirdPct = 100 * b.liveAmp[i] / b.liveAmp[0]
+		}
+	}
+	s.Amp = append([]float64(nil), b.liveAmp...)
+	s.PhaseDeg = append([]float64(nil), b.livePhase...)
+	if len(intAmps) > 1 {
+		s.THD = dsp.THD(intAmps)
+	}
+	s.ThirdFlag = b.driveOn && s.ThirdPct > b.cfg.ThirdLimitPct
+	s.Trend = append([]float64(nil), b.trend...)
+	if b.ringN >= len(b.ring) && info.RateHz > 0 {
+		k := len(b.ring)
+		for i := 0; i < k; i++ {
+			b.specBuf[i] = b.ring[(b.ringPos+i)%k]
+		}
+		s.Spectrum = b.spec.Amplitude(nil, b.specBuf)
+		s.BinHz = info.RateHz / float64(k)
+		nw := int(math.Min(float64(k), math.Round(4*info.RateHz/math.Max(b.freq, 1))))
+		s.Wave = append([]float64(nil), b.specBuf[k-nw:]...)
+		s.WaveDt = 1 / info.RateHz
+	}
+	return s
+}
+
+// coherentDemod returns the complex amplitude of each harmonic over a
+// block spanning whole cycles: Z_h = (2/N) Σ x_n e^{−j2πhφ_n}. With a whole
+// number of cycles in a whole number of samples the harmonics (and the
+// offset) are exactly orthogonal in this sum (common practice: coherent
+// sampling, IEEE Std 1241).
+func coherentDemod(x, ph []float64, hs []lockin.Harmonic) []complex128 {
+	out := make([]complex128, len(hs))
+	for i, h := range hs {
+		r := h.Ratio()
+		var sr, si float64
+		for n, v := range x {
+			s, c := math.Sincos(2 * math.Pi * math.Mod(r*ph[n], 1))
+			sr += v * c
+			si -= v * s
+		}
+		out[i] = complex(2*sr/float64(len(x)), 2*si/float64(len(x)))
+	}
+	return out
+}
+
+// noiseFloor estimates the response's noise density (display unit per √Hz)
+// from the median of the spectrum away from the harmonics. For Gaussian
+// noise a bin's magnitude is Rayleigh distributed, whose median is
+// √(ln 2) times its RMS (a standard property of the Rayleigh distribution).
+func noiseFloor(x []float64, rate, f float64, hs []lockin.Harmonic) float64 {
+	n := len(x)
+	if n < 64 || rate <= 0 {
+		return math.NaN()
+	}
+	sp := dsp.NewSpectrum(n, dsp.Hann, rate)
+	d := sp.Density(nil, x)
+	binHz := rate / float64(n)
+	var keep []float64
+	for k := 3; k < len(d)-1; k++ {
+		fk := float64(k) * binHz
+		near := false
+		for m := 1; m <= 12 && !near; m++ {
+			for _, den := range []float64{1, 2, 3} {
+				if math.Abs(fk-float64(m)*f/den) < 4*binHz {
+					near = true
+					break
+				}
+			}
+		}
+		if !near {
+			keep = append(keep, d[k])
+		}
+	}
+	if len(keep) == 0 {
+		return math.NaN()
+	}
+	return median(keep) / math.Sqrt(math.Ln2)
+}
+
+func median(v []float64) float64 {
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	m := len(s) / 2
+	if len(s)%2 == 1 {
+		return s[m]
+	}
+	return (s[m-1] + s[m]) / 2
+}
+
+// SafetyNote is shown when the drive is first enabled and in the README.
+const SafetyNote = "a resonator driven at a jump can break and coils and amplifiers heat: stay within the rig's limits, keep clear of the moving parts, and follow local rules and your lab's safety officer"

@@ -1,0 +1,139 @@
+package sweep_test
+
+import (
+	"context"
+	"math"
+	"path/filepath"
+	"testing"
+
+	"github.com/sweeplock/sweeplock/acquire"
+	"github.com/sweeplock/sweeplock/acquire/rig"
+	"github.com/sweeplock/sweeplock/acquire/sweep"
+	"github.com/sweeplock/sweeplock/dsp/duffing"
+)
+
+// runRig sweeps a rig file on virtual time into a temporary record.
+func runRig(t *testing.T, path string, o rig.Override) (*sweep.Result, *rig.Setup) {
+	t.Helper()
+	out := filepath.Join(t.TempDir(), "run.csv")
+	s, err := rig.Open(path, rig.Options{Virtual: true, RecordPath: out, RecordEager: true, Override: o, Version: "test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { s.Close() })
+	res, err := sweep.Run(context.Background(), s.Source, s.Drive, s.Bench, sweep.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !res.Completed {
+		t.Fatalf("sweep did not complete: %s", res.StopReason)
+	}
+	return res, s
+}
+
+// model returns the rig's resonator in the record's display unit, for
+// first-order harmonic balance.
+func model(t *testing.T, s *rig.Setup) duffing.Params {
+	t.Helper()
+	c := s.File.Sim
+	perM := 1 / (c.SensVPerM / s.File.Response.VoltsPerUnit) // metres per display unit
+	return duffing.Params{
+		F0Hz:  c.NaturalHz,
+		Zeta:  1 / (2 * c.Q),
+		Beta:  c.Beta * perM * perM,                      // 1/(unit²·s²)
+		Force: c.Gain * s.File.DriveCfg.Amplitude / perM, // unit/s²
+	}
+}
+
+// The main job end to end on the simulated rig: an up-then-down sweep of
+// a Duffing resonator finds one jump in each direction, on the side the
+// sign of the cubic stiffness implies, and each measured jump interval
+// contains, or lies within one step of, the fold frequency that
+// first-order harmonic balance predicts ([(ω0²−ω²+¾βA²)²+(2ζω0ω)²]A² = F²;
+// the relation and its fold values are in REFERENCES.md §5, e.g. Brennan,
+// Kovacic, Carrella and Waters, J. Sound Vib. 318 (2008)).
+func TestSweepFindsHarmonicBalanceJumps(t *testing.T) {
+	cases := []struct {
+		name, rig string
+		soft      bool
+	}{
+		{"demo softening strip", "demo", true},
+		{"hardening beam", "../../testdata/hardening.toml", false},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			res, s := runRig(t, tc.rig, rig.Override{})
+			p := model(t, s)
+			step := s.File.Plan.StepHz
+			var up, down []acquire.JumpJSON
+			for _, j := range res.Jumps {
+				if j.Direction == "up" {
+					up = append(up, j)
+				} else {
+					down = append(down, j)
+				}
+			}
+			if len(up) != 1 || len(down) != 1 {
+				t.Fatalf("want one jump per direction, got up %v down %v", up, down)
+			}
+			// Softening: the up-sweep jumps UP at the band's top and the
+			// down-sweep DOWN at its bottom; hardening the other way round.
+			if up[0].Rise != tc.soft || down[0].Rise == tc.soft {
+				t.Errorf("jump directions: up-sweep rise=%v, down-sweep rise=%v; softening=%v", up[0].Rise, down[0].Rise, tc.soft)
+			}
+			upHz := (up[0].FromHz + up[0].ToHz) / 2
+			downHz := (down[0].FromHz + down[0].ToHz) / 2
+			if !(upHz > downHz) {
+				t.Errorf("up-sweep jump at %.4f Hz should lie above the down-sweep jump at %.4f Hz", upHz, downHz)
+			}
+			var foldUp, foldDown float64
+			for _, f := range p.Folds() {
+				if f.UpSweep {
+					foldUp = f.FreqHz
+				} else {
+					foldDown = f.FreqHz
+				}
+			}
+			within := func(j acquire.JumpJSON, fold float64) bool {
+				lo, hi := math.Min(j.FromHz, j.ToHz), math.Max(j.FromHz, j.ToHz)
+				return fold >= lo-step*(1+1e-9) && fold <= hi+step*(1+1e-9)
+			}
+			if !within(up[0], foldUp) {
+				t.Errorf("up-sweep jump %.4f..%.4f Hz is not within one step (%.3g Hz) of the HB fold %.4f Hz", up[0].FromHz, up[0].ToHz, step, foldUp)
+			}
+			if !within(down[0], foldDown) {
+				t.Errorf("down-sweep jump %.4f..%.4f Hz is not within one step of the HB fold %.4f Hz", down[0].FromHz, down[0].ToHz, foldDown)
+			}
+			t.Logf("HB folds: up-sweep %.4f Hz, down-sweep %.4f Hz; measured %.4f..%.4f and %.4f..%.4f",
+				foldUp, foldDown, up[0].FromHz, up[0].ToHz, down[0].FromHz, down[0].ToHz)
+
+			// Outside the band the two branches are one: the same point
+			// measured on the way up and on the way down must agree within 1 %
+			// (single-valued response; common practice).
+			lo, hi := math.Min(foldUp, foldDown), math.Max(foldUp, foldDown)
+			upAt := map[float64]float64{}
+			for _, pt := range res.Points {
+				if pt.Direction == acquire.Up {
+					upAt[math.Round(pt.FreqSetHz*1e6)] = pt.Amp[0]
+				}
+			}
+			compared := 0
+			for _, pt := range res.Points {
+				if pt.Direction != acquire.Down || (pt.FreqSetHz > lo-2*step && pt.FreqSetHz < hi+2*step) {
+					continue
+				}
+				a, ok := upAt[math.Round(pt.FreqSetHz*1e6)]
+				if !ok {
+					continue
+				}
+				compared++
+				if d := math.Abs(pt.Amp[0]-a) / a; d > 0.01 {
+					t.Errorf("at %.4f Hz the branches differ by %.2f %% (up %.5g, down %.5g)", pt.FreqSetHz, 100*d, a, pt.Amp[0])
+				}
+			}
+			if compared < 10 {
+				t.Errorf("only %d points outside the band to compare", compared)
+			}
+		})
+	}
+}
