@@ -125,6 +125,8 @@ type Bench struct {
 	refDC     float64
 	pendingOK bool
 
+	track phaseTrack
+
 	fast *lockin.LockIn
 	live *lockin.LockIn
 	det  *settle.Detector
@@ -169,6 +171,10 @@ type Bench struct {
 	livePhase []float64
 	noise     float64
 }
+
+// changeLatencyS is how long after a drive change the bench waits before
+// settling when the source cannot report the drive it saw.
+const changeLatencyS = 0.25
 
 // ErrBenchBusy: the command queue is full (the bench is not keeping up).
 var ErrBenchBusy = errors.New("acquire: bench busy, command dropped")
@@ -443,6 +449,7 @@ func (b *Bench) setDrive(f, a float64, on bool) {
 		b.fail(err.Error())
 		return
 	}
+	b.track.reset(f, info.RateHz)
 	if on && !b.driveOn {
 		b.say("drive on: " + SafetyNote)
 	}
@@ -726,12 +733,12 @@ func (b *Bench) onBlock(blk *Block) {
 	}
 	ph := blk.PhaseCyc
 	if ph == nil {
-		// Without the drive's phase there is nothing to demodulate against;
-		// this source needs a reference-tracking phase (not yet wired).
-		if b.errText == "" {
-			b.fail("this source gives no drive phase; a reference channel and phase tracking are needed")
+		// The source does not know the drive's phase: track it.
+		sig := x
+		if b.cfg.Reference >= 0 {
+			sig = r
 		}
-		return
+		ph = b.track.phases(blk, sig)
 	}
 	t := blk.TimeS
 	spoiled := blk.Flags&(FlagGap|FlagOverload) != 0
@@ -745,7 +752,13 @@ func (b *Bench) onBlock(blk *Block) {
 		}
 	}
 	if b.phase == PhaseChanging {
-		if math.Abs(blk.DriveHz-b.freq) <= 1e-9*b.freq && math.Abs(blk.DriveAmp-b.amp) <= 1e-9*math.Max(b.amp, 1e-300) {
+		if blk.DriveHz == 0 {
+			// The source cannot say when the change reached it: allow for
+			// its latency and the drive's ramp.
+			if b.now-b.changeT >= changeLatencyS {
+				b.startSettle(blk)
+			}
+		} else if math.Abs(blk.DriveHz-b.freq) <= 1e-9*b.freq && math.Abs(blk.DriveAmp-b.amp) <= 1e-9*math.Max(b.amp, 1e-300) {
 			b.startSettle(blk)
 		}
 	}
@@ -874,10 +887,12 @@ func (b *Bench) startMeasure() {
 	b.phase = PhaseMeasuring
 	b.measX, b.measR, b.measP, b.measT = b.measX[:0], b.measR[:0], b.measP[:0], b.measT[:0]
 	b.measFlags = 0
-	if b.measN == 0 {
-		// no coherent length known: a whole number of cycles at the nominal rate
-		b.measN = int(math.Round(float64(b.measK) * b.src.Info().RateHz / b.freq))
+	if b.measK < 1 {
+		b.measK = b.cfg.Plan.MeasureCycles
 	}
+	// The lock-in's block starts at the first whole cycle after the first
+	// frame: one cycle more (and two frames) make sure a whole block fits.
+	b.measN = int(math.Ceil(float64(b.measK+1)*b.src.Info().RateHz/b.freq)) + 2
 }
 
 func (b *Bench) measAppend(x, r, ph, t []float64, n int, blk *Block, off int) {
@@ -906,13 +921,15 @@ func (b *Bench) finishMeasure() {
 	} else {
 		p.Direction = Manual
 	}
-	zs := coherentDemod(x, ph, b.cfg.Harmonics)
+	zs, zr, ok := b.demodWindow(x, b.measR[:n], t, ph)
+	if !ok {
+		b.say(fmt.Sprintf("the measurement at %.4f Hz held no whole block of %d cycles: measuring again", b.freq, b.measK))
+		b.startMeasure()
+		return
+	}
 	corr := complex(1, 0)
-	if b.cfg.Reference >= 0 && b.cfg.RefVoltsPerDrive != 0 {
-		zr := coherentDemod(b.measR[:n], ph, b.cfg.Harmonics[:1])[0]
-		if zr != 0 {
-			corr = complex(p.DriveAmp*b.cfg.RefVoltsPerDrive, 0) / zr
-		}
+	if b.cfg.Reference >= 0 && b.cfg.RefVoltsPerDrive != 0 && zr != 0 {
+		corr = complex(p.DriveAmp*b.cfg.RefVoltsPerDrive, 0) / zr
 	}
 	amps := make([]float64, len(zs))
 	for i, h := range b.cfg.Harmonics {
@@ -1104,24 +1121,50 @@ func (b *Bench) snapshot() Snapshot {
 	return s
 }
 
-// coherentDemod returns the complex amplitude of each harmonic over a
-// block spanning whole cycles: Z_h = (2/N) Σ x_n e^{−j2πhφ_n}. With a whole
-// number of cycles in a whole number of samples the harmonics (and the
-// offset) are exactly orthogonal in this sum (common practice: coherent
-// sampling, IEEE Std 1241).
-func coherentDemod(x, ph []float64, hs []lockin.Harmonic) []complex128 {
-	out := make([]complex128, len(hs))
-	for i, h := range hs {
-		r := h.Ratio()
-		var sr, si float64
-		for n, v := range x {
-			s, c := math.Sincos(2 * math.Pi * math.Mod(r*ph[n], 1))
-			sr += v * c
-			si -= v * s
+// demodWindow measures the window's harmonics with a synchronous lock-in
+// block of measK whole cycles (a least-squares fit of the harmonics and an
+// offset, exact for coherent sampling and for any other), and the
+// reference channel's fundamental when there is one.
+func (b *Bench) demodWindow(x, r, t, ph []float64) (zs []complex128, zr complex128, ok bool) {
+	nch := 1
+	data := x
+	if b.cfg.Reference >= 0 {
+		nch = 2
+		data = make([]float64, 2*len(x))
+		for i := range x {
+			data[2*i], data[2*i+1] = x[i], r[i]
 		}
-		out[i] = complex(2*sr/float64(len(x)), 2*si/float64(len(x)))
 	}
-	return out
+	l, err := lockin.New(lockin.Config{Harmonics: b.cfg.Harmonics, Channels: nch, Mode: lockin.Sync,
+		Cycles: b.measK, RateHz: b.src.Info().RateHz})
+	if err != nil {
+		return nil, 0, false
+	}
+	for len(ph) > 0 {
+		n, done := l.Push(data[:len(ph)*nch], t, ph)
+		if done {
+			res := l.Result()
+			if !res.OK {
+				return nil, 0, false
+			}
+			zs = make([]complex128, len(b.cfg.Harmonics))
+			for i := range zs {
+				zs[i] = res.At(0, i)
+			}
+			if nch == 2 {
+				zr = res.At(1, 0)
+			}
+			return zs, zr, true
+		}
+		if n == 0 {
+			break
+		}
+		data, ph = data[n*nch:], ph[n:]
+		if t != nil {
+			t = t[n:]
+		}
+	}
+	return nil, 0, false
 }
 
 // noiseFloor estimates the response's noise density (display unit per √Hz)
