@@ -149,23 +149,24 @@ type Bench struct {
 	spec    *dsp.Spectrum
 	specBuf []float64
 
-	points   []Point
-	legPts   map[Direction][]jumpPoint
-	jumps    []JumpJSON
-	bandLo   float64
-	bandHi   float64
-	rec      *Recorder
-	raw      *WAVWriter
-	rawInfo  *RawInfo
-	frames   int64 // frames seen since Run started
-	measAt   int64 // frame index where the current measurement began
-	messages []string
-	errText  string
-	stopWhy  string
-	lastPub  time.Time
-	sidecar  *Sidecar
-	finished bool
-	runErr   error
+	points    []Point
+	legPts    map[Direction][]jumpPoint
+	jumps     []JumpJSON
+	bandLo    float64
+	bandHi    float64
+	rec       *Recorder
+	raw       *WAVWriter
+	rawInfo   *RawInfo
+	frames    int64 // frames seen since Run started
+	measAt    int64 // frame index where the current measurement began
+	messages  []string
+	errText   string
+	stopWhy   string
+	lastPub   time.Time
+	sidecar   *Sidecar
+	finished  bool
+	sweepDone bool // the plan ran to its end
+	runErr    error
 
 	liveAmp   []float64
 	livePhase []float64
@@ -336,6 +337,7 @@ func (b *Bench) SetNote(s string) error { return b.do(func() { b.note = s }) }
 func (b *Bench) StartSweep() error {
 	return b.do(func() {
 		b.mode = ModeSweep
+		b.sweepDone = false
 		b.planIdx = 0
 		b.legPts = map[Direction][]jumpPoint{}
 		b.say(fmt.Sprintf("sweep started: %d points", len(b.steps)))
@@ -524,6 +526,7 @@ func (b *Bench) gotoPlan() {
 
 func (b *Bench) finishSweep() {
 	b.mode = ModeDone
+	b.sweepDone = true
 	b.stopWhy = ""
 	b.driveOff("sweep finished; drive ramped down")
 	b.writeSidecar(true)
@@ -569,7 +572,7 @@ func (b *Bench) Run(ctx context.Context) error {
 	for {
 		select {
 		case <-ctx.Done():
-			if b.stopWhy == "" {
+			if b.stopWhy == "" && !b.sweepDone {
 				b.stopWhy = "interrupted"
 			}
 			return b.shutdown(nil)
@@ -627,7 +630,7 @@ func (b *Bench) shutdown(err error) error {
 			err = cerr
 		}
 	}
-	b.writeSidecar(b.mode == ModeDone && b.stopWhy == "")
+	b.writeSidecar(b.sweepDone && b.stopWhy == "")
 	if b.rec != nil {
 		if cerr := b.rec.Close(); cerr != nil && err == nil {
 			err = cerr

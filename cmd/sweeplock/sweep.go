@@ -41,6 +41,7 @@ func (f *rigFlags) options(record string) rig.Options {
 
 type sweepCmd struct {
 	rigFlags
+	Verbose bool `short:"v" help:"Print a line for every logged point and jump as it happens."`
 }
 
 func (c *sweepCmd) Run(ctx context.Context) error {
@@ -56,6 +57,9 @@ func (c *sweepCmd) Run(ctx context.Context) error {
 	}
 	defer setup.Close()
 	sopt := sweep.Options{}
+	if c.Verbose {
+		sopt.Log = os.Stdout
+	}
 	if term.IsTerminal(os.Stderr.Fd()) {
 		sopt.Progress = os.Stderr
 	}
