@@ -151,6 +151,9 @@ type Bench struct {
 
 	points    []Point
 	legPts    map[Direction][]jumpPoint
+	refPts    []jumpPoint // points of the refinement round in progress
+	refJump   int         // index in jumps of the jump being refined
+	refLevel  int
 	jumps     []JumpJSON
 	bandLo    float64
 	bandHi    float64
@@ -394,13 +397,13 @@ func (b *Bench) Reverse() error {
 		if dir == Up {
 			for _, f := range leg {
 				if f > cur+1e-9 {
-					rest = append(rest, Step{f, Up})
+					rest = append(rest, Step{FreqHz: f, Direction: Up})
 				}
 			}
 		} else {
 			for i := len(leg) - 1; i >= 0; i-- {
 				if leg[i] < cur-1e-9 {
-					rest = append(rest, Step{leg[i], Down})
+					rest = append(rest, Step{FreqHz: leg[i], Direction: Down})
 				}
 			}
 		}
@@ -522,6 +525,17 @@ func (b *Bench) gotoPlan() {
 	b.legDir = s.Direction
 	b.step = b.cfg.Plan.stepNear(s.FreqHz)
 	b.setDrive(s.FreqHz, b.cfg.DriveAmp, true)
+	if s.Kind == StepReposition {
+		b.logReq = false
+	}
+}
+
+// curStep is the plan step being measured, or a zero Step outside a sweep.
+func (b *Bench) curStep() Step {
+	if b.mode == ModeSweep && b.planIdx < len(b.steps) {
+		return b.steps[b.planIdx]
+	}
+	return Step{}
 }
 
 func (b *Bench) finishSweep() {
@@ -880,6 +894,9 @@ func (b *Bench) onSettleBlock() {
 		}
 		if b.logReq {
 			b.startMeasure()
+		} else if b.mode == ModeSweep && b.curStep().Kind == StepReposition {
+			b.planIdx++
+			b.gotoPlan()
 		} else {
 			b.phase = PhaseHolding
 		}
@@ -921,6 +938,9 @@ func (b *Bench) finishMeasure() {
 		DriveAmp: b.drv.Amp(), Flags: b.measFlags}
 	if b.mode == ModeSweep {
 		p.Direction = b.legDir
+		if st := b.curStep(); st.Kind == StepRefine && b.note == "" {
+			b.note = fmt.Sprintf("refine %d", st.Level)
+		}
 	} else {
 		p.Direction = Manual
 	}
@@ -1000,7 +1020,12 @@ func (b *Bench) finishMeasure() {
 	b.logReq = false
 	b.phase = PhaseHolding
 	if b.mode == ModeSweep {
-		b.findJumps(p)
+		st := b.curStep()
+		if st.Kind == StepRefine {
+			b.refinePoint(p, st)
+		} else {
+			b.findJumps(p)
+		}
 		b.planIdx++
 		b.gotoPlan()
 	}
@@ -1027,6 +1052,9 @@ func (b *Bench) findJumps(p Point) {
 		}
 		b.say(fmt.Sprintf("jump %s on the %s sweep between %.4f and %.4f Hz", kind, d, j.FromHz, j.ToHz))
 		b.emit(Event{Kind: EventJump, Jump: &b.jumps[len(b.jumps)-1]})
+		if b.cfg.Plan.Refine {
+			b.planRefine(len(b.jumps)-1, 1)
+		}
 	}
 	b.updateBand()
 }

@@ -195,7 +195,24 @@ func (p Plan) legFreqs() []float64 {
 type Step struct {
 	FreqHz    float64
 	Direction Direction // Up or Down
+	Kind      StepKind
+	// Level counts refinement rounds: 0 for plan points, 1.. for refine
+	// points of that round.
+	Level int
 }
+
+// StepKind says what a step is for.
+type StepKind int
+
+const (
+	// StepPlan is a point of the plan: settle, measure, log.
+	StepPlan StepKind = iota
+	// StepReposition moves the drive back beyond a jump to re-approach it
+	// on the original branch: settle, do not log.
+	StepReposition
+	// StepRefine is a finer point near a jump: settle, measure, log.
+	StepRefine
+)
 
 // Steps lists the planned points in the order they are visited. An up-down
 // plan visits the top point once: the down leg starts one step below it.
@@ -204,7 +221,7 @@ func (p Plan) Steps() []Step {
 	var out []Step
 	up := func() {
 		for _, f := range leg {
-			out = append(out, Step{f, Up})
+			out = append(out, Step{FreqHz: f, Direction: Up})
 		}
 	}
 	down := func(skipTop bool) {
@@ -212,7 +229,7 @@ func (p Plan) Steps() []Step {
 			if skipTop && i == len(leg)-1 {
 				continue
 			}
-			out = append(out, Step{leg[i], Down})
+			out = append(out, Step{FreqHz: leg[i], Direction: Down})
 		}
 	}
 	switch p.Direction {

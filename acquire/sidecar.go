@@ -94,6 +94,8 @@ type JumpJSON struct {
 	AmpBefore float64 `json:"amp_before"`
 	AmpAfter  float64 `json:"amp_after"`
 	Rise      bool    `json:"rise"`
+	// Refined is the number of refinement rounds that narrowed the interval.
+	Refined int `json:"refined_rounds,omitempty"`
 }
 
 // WriteSidecar writes the sidecar atomically (a temporary file, synced,

@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"github.com/sweeplock/sweeplock/acquire"
@@ -201,4 +202,48 @@ func TestSuperharmonicResonance(t *testing.T) {
 	}
 	t.Logf("near f0/3: peak ratio %.3f %% at %.4f Hz; at f0/2: %.4f %%; a3 %.4g vs predicted %.4g",
 		100*best, near.Points[bi].FreqSetHz, 100*atHalf, gotA3, math.Abs(wantA3))
+}
+
+// With refinement the bench goes back beyond the band, re-approaches each
+// jump from the side it was first met (on a hysteresis band the other side
+// is another branch: common practice) and narrows the interval: after two
+// rounds at a quarter of the step each, each interval is far narrower than
+// the plan's step and still lies within a refined step of the first-order
+// harmonic-balance fold (REFERENCES.md §5).
+func TestRefineNarrowsJumps(t *testing.T) {
+	res, s := runRig(t, "demo", rig.Override{Refine: true})
+	p := model(t, s)
+	step := s.File.Plan.StepHz
+	if len(res.Jumps) != 2 {
+		t.Fatalf("want 2 jumps, got %+v", res.Jumps)
+	}
+	for _, j := range res.Jumps {
+		lo, hi := math.Min(j.FromHz, j.ToHz), math.Max(j.FromHz, j.ToHz)
+		if j.Refined != 2 || hi-lo > step/4 {
+			t.Errorf("%s jump %.4f..%.4f Hz: refined %d rounds, width %.4g Hz (plan step %g)", j.Direction, lo, hi, j.Refined, hi-lo, step)
+		}
+		var fold float64
+		for _, f := range p.Folds() {
+			if f.UpSweep == (j.Direction == "up") {
+				fold = f.FreqHz
+			}
+		}
+		w := hi - lo
+		if fold < lo-w || fold > hi+w {
+			t.Errorf("%s jump refined to %.4f..%.4f Hz, HB fold %.4f Hz is more than one refined step away", j.Direction, lo, hi, fold)
+		}
+		t.Logf("%s jump refined to %.4f..%.4f Hz; HB fold %.4f Hz", j.Direction, lo, hi, fold)
+	}
+	refined := 0
+	for _, pt := range res.Points {
+		if strings.HasPrefix(pt.Note, "refine") {
+			refined++
+			if !pt.Settled {
+				t.Errorf("refine point at %.4f Hz not settled", pt.FreqSetHz)
+			}
+		}
+	}
+	if refined == 0 {
+		t.Error("no refine points were logged")
+	}
 }
