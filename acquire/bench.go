@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/sweeplock/sweeplock/dsp"
+	"github.com/sweeplock/sweeplock/dsp/jump"
 	"github.com/sweeplock/sweeplock/dsp/lockin"
 	"github.com/sweeplock/sweeplock/dsp/settle"
 )
@@ -119,6 +120,7 @@ type Bench struct {
 	forceReq  bool
 	now       float64
 	changeT   float64
+	decidedT  float64 // source time of the settle decision (or of a forced log)
 	setT      float64
 	blockS    float64
 	dc        float64
@@ -150,9 +152,9 @@ type Bench struct {
 	specBuf []float64
 
 	points    []Point
-	legPts    map[Direction][]jumpPoint
-	refPts    []jumpPoint // points of the refinement round in progress
-	refJump   int         // index in jumps of the jump being refined
+	legPts    map[Direction][]jump.Point
+	refPts    []jump.Point // points of the refinement round in progress
+	refJump   int          // index in jumps of the jump being refined
 	refLevel  int
 	jumps     []JumpJSON
 	bandLo    float64
@@ -219,7 +221,7 @@ func NewBench(src Source, drv Drive, cfg BenchConfig) (*Bench, error) {
 	b := &Bench{cfg: cfg, src: src, drv: drv,
 		cmds:   make(chan func(), 64),
 		latest: make(chan Snapshot, 1),
-		legPts: map[Direction][]jumpPoint{},
+		legPts: map[Direction][]jump.Point{},
 	}
 	var err error
 	b.fast, err = lockin.New(lockin.Config{Harmonics: []lockin.Harmonic{{Num: 1, Den: 1}}, Channels: 1,
@@ -317,6 +319,9 @@ func (b *Bench) LogNow(force bool) error {
 		b.logReq = true
 		b.forceReq = force
 		if b.phase == PhaseHolding || (force && b.phase == PhaseSettling) {
+			if b.decidedT == 0 {
+				b.decidedT = b.now
+			}
 			b.startMeasure()
 		}
 	})
@@ -342,7 +347,7 @@ func (b *Bench) StartSweep() error {
 		b.mode = ModeSweep
 		b.sweepDone = false
 		b.planIdx = 0
-		b.legPts = map[Direction][]jumpPoint{}
+		b.legPts = map[Direction][]jump.Point{}
 		b.say(fmt.Sprintf("sweep started: %d points", len(b.steps)))
 		b.gotoPlan()
 	})
@@ -485,7 +490,7 @@ func (b *Bench) coherent(f float64) (float64, int, int) {
 	minK := b.cfg.Plan.MeasureCycles
 	tol := math.Max(b.step/50, f*1e-6)
 	bestF, bestK, bestN, bestE := f, 0, 0, math.Inf(1)
-	for k := (minK + den - 1) / den * den; k <= 4*minK+den; k += den {
+	for k := (minK + den - 1) / den * den; k <= 2*minK+den; k += den {
 		n := int(math.Round(float64(k) * rate / f))
 		fk := float64(k) * rate / float64(n)
 		if e := math.Abs(fk - f); e < bestE {
@@ -866,6 +871,7 @@ func (b *Bench) toDisp(z complex128, h lockin.Harmonic) complex128 {
 
 func (b *Bench) startSettle(blk *Block) {
 	b.phase = PhaseSettling
+	b.decidedT = 0
 	b.setT = blk.StartS
 	b.blockS = float64(b.cfg.SettleCycles) / b.freq
 	b.fast.Reset()
@@ -889,6 +895,7 @@ func (b *Bench) onSettleBlock() {
 	}
 	switch b.st.State {
 	case settle.Settled, settle.GaveUp:
+		b.decidedT = b.now
 		if b.st.State == settle.GaveUp {
 			b.say(fmt.Sprintf("%.4g Hz did not settle within %v: logged as not settled", b.freq, b.cfg.Plan.MaxDwell))
 		}
@@ -979,7 +986,11 @@ func (b *Bench) finishMeasure() {
 	}
 	p.NoiseDensity = noiseFloor(x, b.src.Info().RateHz, b.freq, b.cfg.Harmonics)
 	b.noise = p.NoiseDensity
-	p.Dwell = time.Duration((b.now - b.changeT) * float64(time.Second))
+	if b.decidedT == 0 {
+		b.decidedT = b.now
+	}
+	p.Dwell = time.Duration((b.decidedT - b.changeT) * float64(time.Second))
+	p.MeasureCycles = b.measK
 	p.TauS = b.st.TauS
 	switch {
 	case b.st.State == settle.Settled:
@@ -1034,8 +1045,8 @@ func (b *Bench) finishMeasure() {
 
 func (b *Bench) findJumps(p Point) {
 	d := p.Direction
-	b.legPts[d] = append(b.legPts[d], jumpPoint{FreqHz: p.FreqSetHz, Amp: p.Amp[0]})
-	found := findJumpsShim(b.legPts[d])
+	b.legPts[d] = append(b.legPts[d], jump.Point{FreqHz: p.FreqSetHz, Amp: p.Amp[0]})
+	found := jump.Find(b.legPts[d], jump.Config{})
 	known := 0
 	for _, j := range b.jumps {
 		if j.Direction == d.String() {

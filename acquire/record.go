@@ -32,12 +32,16 @@ type Point struct {
 	THD      float64 // fraction (THD_F of the logged harmonics)
 	// NoiseDensity is the response's noise floor in display unit per √Hz.
 	NoiseDensity float64
-	Dwell        time.Duration // time from the drive change to the end of the measurement
-	Settled      bool
-	SettleState  string  // "settled", "gave-up", "forced" (logged by hand before settling)
-	TauS         float64 // transient time constant the settle detector saw, 0 if none
-	Flags        Flags
-	Note         string
+	// Dwell is the wait at the point: from the drive change to the settle
+	// detector's decision (or to a forced log).
+	Dwell time.Duration
+	// MeasureCycles is the number of whole drive cycles the measurement spans.
+	MeasureCycles int
+	Settled       bool
+	SettleState   string  // "settled", "gave-up", "forced" (logged by hand before settling)
+	TauS          float64 // transient time constant the settle detector saw, 0 if none
+	Flags         Flags
+	Note          string
 }
 
 // Columns describes the quantities of a record: the harmonics it logs and
@@ -65,7 +69,7 @@ func (c Columns) Header() []string {
 			h = append(h, "ratio_"+t+"_pct")
 		}
 	}
-	h = append(h, "thd_pct", "noise_"+u+"_per_rthz", "dwell_s", "settled", "settle_state", "tau_s", "flags", "note")
+	h = append(h, "thd_pct", "noise_"+u+"_per_rthz", "dwell_s", "measure_cycles", "settled", "settle_state", "tau_s", "flags", "note")
 	return h
 }
 
@@ -101,7 +105,7 @@ func (c Columns) Row(p Point) []string {
 	if p.Settled {
 		settled = "1"
 	}
-	r = append(r, fmtF(100*p.THD), fmtF(p.NoiseDensity), fmtF(p.Dwell.Seconds()), settled,
+	r = append(r, fmtF(100*p.THD), fmtF(p.NoiseDensity), fmtF(p.Dwell.Seconds()), strconv.Itoa(p.MeasureCycles), settled,
 		p.SettleState, fmtF(p.TauS), p.Flags.String(), p.Note)
 	return r
 }
@@ -342,6 +346,7 @@ func parseRow(row []string, c Columns, idx map[string]int) (Point, error) {
 	p.THD = num("thd_pct") / 100
 	p.NoiseDensity = num("noise_" + c.Unit + "_per_rthz")
 	p.Dwell = time.Duration(num("dwell_s") * float64(time.Second))
+	p.MeasureCycles = int(num("measure_cycles"))
 	p.Settled = get("settled") == "1"
 	p.SettleState = get("settle_state")
 	p.TauS = num("tau_s")

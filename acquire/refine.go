@@ -3,6 +3,8 @@ package acquire
 import (
 	"fmt"
 	"math"
+
+	"github.com/sweeplock/sweeplock/dsp/jump"
 )
 
 // Refining a jump. On a hysteresis band going back changes the branch, so
@@ -80,11 +82,11 @@ func (b *Bench) planRefine(ji, level int) {
 // refinePoint takes a logged refine point; after the round's last point it
 // narrows the jump's interval and plans the next round.
 func (b *Bench) refinePoint(p Point, st Step) {
-	b.refPts = append(b.refPts, jumpPoint{FreqHz: p.FreqSetHz, Amp: p.Amp[0]})
+	b.refPts = append(b.refPts, jump.Point{FreqHz: p.FreqSetHz, Amp: p.Amp[0]})
 	if next := b.planIdx + 1; next < len(b.steps) && b.steps[next].Kind == StepRefine && b.steps[next].Level == st.Level {
 		return
 	}
-	found := findJumpsShim(b.refPts)
+	found := jump.Find(b.refPts, jump.Config{})
 	j := &b.jumps[b.refJump]
 	if len(found) != 1 {
 		b.say(fmt.Sprintf("round %d of refining the %s-sweep jump found %d jumps in its finer steps: kept %.4f..%.4f Hz",
