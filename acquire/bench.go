@@ -120,7 +120,8 @@ type Bench struct {
 	forceReq  bool
 	now       float64
 	changeT   float64
-	decidedT  float64 // source time of the settle decision (or of a forced log)
+	decidedT  float64    // source time of the settle decision (or of a forced log)
+	heldZ     complex128 // the settled fundamental, watched while holding
 	setT      float64
 	blockS    float64
 	dc        float64
@@ -141,8 +142,7 @@ type Bench struct {
 	measT        []float64
 	measFlags    Flags
 
-	x, r    []float64 // calibrated response and reference of one block
-	scratch []float64
+	x, r []float64 // calibrated response and reference of one block
 
 	ring    []float64 // last frames of the calibrated response
 	ringPos int
@@ -150,6 +150,11 @@ type Bench struct {
 	trend   []float64
 	spec    *dsp.Spectrum
 	specBuf []float64
+	ringPh  []float64
+	ringT   []float64
+	liveX   []float64
+	livePh  []float64
+	liveT   []float64
 
 	points    []Point
 	legPts    map[Direction][]jump.Point
@@ -177,6 +182,9 @@ type Bench struct {
 	livePhase []float64
 	noise     float64
 }
+
+// specFrames is the length of the spectrum the screen shows.
+const specFrames = 4096
 
 // changeLatencyS is how long after a drive change the bench waits before
 // settling when the source cannot report the drive it saw.
@@ -229,8 +237,10 @@ func NewBench(src Source, drv Drive, cfg BenchConfig) (*Bench, error) {
 	if err != nil {
 		return nil, fmt.Errorf("acquire: %w", err)
 	}
-	b.live, err = lockin.New(lockin.Config{Harmonics: cfg.Harmonics, Channels: 1, Mode: lockin.LowPass,
-		Order: 2, TimeConstant: 150 * time.Millisecond, RateHz: info.RateHz})
+	// The live readout: synchronous blocks of whole cycles (of every
+	// subharmonic too), one value per block, no ripple.
+	b.live, err = lockin.New(lockin.Config{Harmonics: cfg.Harmonics, Channels: 1, Mode: lockin.Sync,
+		Cycles: cfg.SettleCycles, RateHz: info.RateHz})
 	if err != nil {
 		return nil, fmt.Errorf("acquire: %w", err)
 	}
@@ -246,9 +256,11 @@ func NewBench(src Source, drv Drive, cfg BenchConfig) (*Bench, error) {
 	b.amp = cfg.DriveAmp
 	b.step = cfg.Plan.stepNear(b.freq)
 	b.legDir = Manual
-	b.ring = make([]float64, 4096)
-	b.spec = dsp.NewSpectrum(len(b.ring), dsp.Hann, info.RateHz)
-	b.specBuf = make([]float64, len(b.ring))
+	const ringFrames = 1 << 16
+	b.ring, b.ringPh, b.ringT = make([]float64, ringFrames), make([]float64, ringFrames), make([]float64, ringFrames)
+	b.liveX, b.livePh, b.liveT = make([]float64, ringFrames), make([]float64, ringFrames), make([]float64, ringFrames)
+	b.spec = dsp.NewSpectrum(specFrames, dsp.Hann, info.RateHz)
+	b.specBuf = make([]float64, specFrames)
 	b.liveAmp = make([]float64, len(cfg.Harmonics))
 	b.livePhase = make([]float64, len(cfg.Harmonics))
 	if cfg.Sidecar != nil {
@@ -735,21 +747,27 @@ func (b *Bench) onBlock(blk *Block) {
 		b.r = make([]float64, n)
 	}
 	x, r := b.x[:n], b.r[:n]
-	peak := 0.0
-	for i := 0; i < n; i++ {
-		v := (blk.Data[i*ch+b.cfg.Response] - b.cfg.OffsetV) / b.cfg.VoltsPerUnit
+	offV, inv := b.cfg.OffsetV, 1/b.cfg.VoltsPerUnit
+	lo, hi := math.Inf(1), math.Inf(-1)
+	data := blk.Data[b.cfg.Response:]
+	for i := range x {
+		v := (data[i*ch] - offV) * inv
 		x[i] = v
-		if a := math.Abs(v - b.dc); a > peak {
-			peak = a
+		if v < lo {
+			lo = v
 		}
-		if b.cfg.Reference >= 0 {
-			r[i] = blk.Data[i*ch+b.cfg.Reference]
+		if v > hi {
+			hi = v
 		}
-		b.ring[b.ringPos] = v
-		b.ringPos = (b.ringPos + 1) % len(b.ring)
 	}
-	b.ringN += n
-	if b.cfg.MaxDisp > 0 && peak > b.cfg.MaxDisp && b.ringN > len(b.ring)/4 {
+	peak := math.Max(hi-b.dc, b.dc-lo)
+	if b.cfg.Reference >= 0 {
+		refd := blk.Data[b.cfg.Reference:]
+		for i := range r {
+			r[i] = refd[i*ch]
+		}
+	}
+	if b.cfg.MaxDisp > 0 && peak > b.cfg.MaxDisp && b.frames > int64(blk.RateHz) {
 		b.limitStop(peak)
 		return
 	}
@@ -763,10 +781,13 @@ func (b *Bench) onBlock(blk *Block) {
 		ph = b.track.phases(blk, sig)
 	}
 	t := blk.TimeS
+	b.keep(x, ph, blk)
 	spoiled := blk.Flags&(FlagGap|FlagOverload) != 0
 	if spoiled {
 		b.fast.Reset()
-		b.live.Reset()
+		if b.phase == PhaseSettling {
+			b.det.Update(complex(math.NaN(), math.NaN())) // tells the detector of the gap
+		}
 		if b.phase == PhaseMeasuring {
 			b.measX = b.measX[:0]
 			b.measFlags |= blk.Flags
@@ -810,50 +831,75 @@ func (b *Bench) onBlock(blk *Block) {
 			break
 		}
 	}
-	b.pushLive(x, t, ph)
 	if b.phase == PhaseMeasuring && b.measN > 0 && len(b.measX) >= b.measN {
 		b.finishMeasure()
 	}
 }
 
-// pushDC feeds x less the running offset estimate.
+// pushDC feeds the settle lock-in and keeps the response's offset (for
+// the displacement limit). The lock-in fits the offset with the harmonics,
+// so the level does not leak into them.
 func (b *Bench) pushDC(l *lockin.LockIn, x, t, ph []float64) (int, bool) {
-	// Subtract the offset known so far so a non-coherent block does not
-	// leak the DC level into the fundamental.
-	n, done := b.pushOffset(l, x, t, ph, b.dc)
+	n, done := l.Push(x[:len(ph)], t, ph)
 	if done {
-		b.dc += l.Result().Offset(0)
+		b.dc = l.Result().Offset(0)
 	}
 	return n, done
 }
 
-func (b *Bench) pushLive(x, t, ph []float64) {
-	for len(ph) > 0 {
-		n, _ := b.pushOffset(b.live, x, t, ph, b.dc)
-		if n == 0 {
-			break
-		}
-		x, ph = x[n:], ph[n:]
-		if t != nil {
-			t = t[n:]
+// keep appends the block's calibrated response, drive phase and times to
+// the rings the screen's views and the live readout are computed from.
+func (b *Bench) keep(x, ph []float64, blk *Block) {
+	k := len(b.ring)
+	for i := range x {
+		b.ring[b.ringPos], b.ringPh[b.ringPos], b.ringT[b.ringPos] = x[i], ph[i], blk.Frame(i)
+		b.ringPos++
+		if b.ringPos == k {
+			b.ringPos = 0
 		}
 	}
-	for i, h := range b.cfg.Harmonics {
-		z := b.toDisp(b.live.Value(0, i), h)
-		b.liveAmp[i] = cmplx.Abs(z)
-		b.livePhase[i] = cmplx.Phase(z) * 180 / math.Pi
-	}
+	b.ringN += len(x)
 }
 
-// pushOffset feeds a lock-in with x less dc, through the bench's scratch
-// buffer.
-func (b *Bench) pushOffset(l *lockin.LockIn, x, t, ph []float64, dc float64) (int, bool) {
-	s := b.scratch[:0]
-	for _, v := range x[:len(ph)] {
-		s = append(s, v-dc)
+// liveReadout measures the harmonics over the newest whole block of the
+// live lock-in's cycles in the rings. It runs at display rate, not per
+// sample.
+func (b *Bench) liveReadout() {
+	rate := b.src.Info().RateHz
+	if b.freq <= 0 || rate <= 0 || !b.driveOn {
+		return
 	}
-	b.scratch = s
-	return l.Push(s, t, ph)
+	cyc := float64(b.live.Config().Cycles)
+	m := int(math.Ceil((cyc+1)*rate/b.freq)) + 2
+	k := len(b.ring)
+	if m > k || m > b.ringN {
+		return
+	}
+	x, ph, t := b.liveX[:m], b.livePh[:m], b.liveT[:m]
+	for i := 0; i < m; i++ {
+		j := (b.ringPos - m + i + k) % k
+		x[i], ph[i], t[i] = b.ring[j], b.ringPh[j], b.ringT[j]
+	}
+	b.live.Reset()
+	for len(ph) > 0 {
+		n, done := b.live.Push(x[:len(ph)], t, ph)
+		if done {
+			r := b.live.Result()
+			if !r.OK {
+				return
+			}
+			for i, h := range b.cfg.Harmonics {
+				z := b.toDisp(r.At(0, i), h)
+				b.liveAmp[i] = cmplx.Abs(z)
+				b.livePhase[i] = cmplx.Phase(z) * 180 / math.Pi
+			}
+			return
+		}
+		if n == 0 {
+			return
+		}
+		x, ph, t = x[n:], ph[n:], t[n:]
+	}
 }
 
 // toDisp turns a harmonic's complex amplitude of the sensor quantity into
@@ -886,16 +932,29 @@ func (b *Bench) onSettleBlock() {
 	if len(b.trend) > 600 {
 		b.trend = b.trend[len(b.trend)-600:]
 	}
-	if b.phase != PhaseSettling && b.phase != PhaseHolding {
+	if b.phase == PhaseHolding {
+		// Settled and holding: watch for the response moving away from
+		// its settled value (a disturbance, a jump) and settle again.
+		ref := cmplx.Abs(b.heldZ)
+		if d := cmplx.Abs(z - b.heldZ); d > math.Max(10*b.cfg.Plan.SettleTol*ref, 10*b.cfg.SettleFloor) && ref > 0 {
+			b.say(fmt.Sprintf("the response moved by %.2g %% at %.4f Hz: settling again", 100*d/ref, b.freq))
+			b.phase = PhaseSettling
+			b.det.Reset(b.blockS)
+			b.decidedT = 0
+		}
+		return
+	}
+	if b.phase != PhaseSettling {
 		return
 	}
 	b.st = b.det.Update(z)
-	if b.phase == PhaseHolding {
-		return
-	}
 	switch b.st.State {
 	case settle.Settled, settle.GaveUp:
 		b.decidedT = b.now
+		b.heldZ = z
+		if f := b.st.Final; b.st.State == settle.Settled && !cmplx.IsNaN(f) {
+			b.heldZ = f
+		}
 		if b.st.State == settle.GaveUp {
 			b.say(fmt.Sprintf("%.4g Hz did not settle within %v: logged as not settled", b.freq, b.cfg.Plan.MaxDwell))
 		}
@@ -1117,6 +1176,7 @@ func (b *Bench) publish(force bool) {
 
 func (b *Bench) snapshot() Snapshot {
 	info := b.src.Info()
+	b.liveReadout()
 	s := Snapshot{TimeS: b.now, Source: info, Stats: b.src.Stats(), Drive: b.drv.Info(),
 		DriveOn: b.driveOn, FreqHz: b.freq, AmpSet: b.amp, AmpNow: b.drv.Amp(), StepHz: b.step,
 		LimitAmp: b.drv.Info().MaxAmp, LimitDisp: b.cfg.MaxDisp, Mode: b.mode, Direction: b.legDir,
@@ -1149,15 +1209,15 @@ func (b *Bench) snapshot() Snapshot {
 	}
 	s.ThirdFlag = b.driveOn && s.ThirdPct > b.cfg.ThirdLimitPct
 	s.Trend = append([]float64(nil), b.trend...)
-	if b.ringN >= len(b.ring) && info.RateHz > 0 {
-		k := len(b.ring)
-		for i := 0; i < k; i++ {
-			b.specBuf[i] = b.ring[(b.ringPos+i)%k]
+	if b.ringN >= specFrames && info.RateHz > 0 {
+		k, n := len(b.ring), specFrames
+		for i := 0; i < n; i++ {
+			b.specBuf[i] = b.ring[(b.ringPos-n+i+k)%k]
 		}
 		s.Spectrum = b.spec.Amplitude(nil, b.specBuf)
-		s.BinHz = info.RateHz / float64(k)
-		nw := int(math.Min(float64(k), math.Round(4*info.RateHz/math.Max(b.freq, 1))))
-		s.Wave = append([]float64(nil), b.specBuf[k-nw:]...)
+		s.BinHz = info.RateHz / float64(n)
+		nw := int(math.Min(float64(n), math.Round(4*info.RateHz/math.Max(b.freq, 1))))
+		s.Wave = append([]float64(nil), b.specBuf[n-nw:]...)
 		s.WaveDt = 1 / info.RateHz
 	}
 	return s
