@@ -144,17 +144,18 @@ type Bench struct {
 
 	x, r []float64 // calibrated response and reference of one block
 
-	ring    []float64 // last frames of the calibrated response
-	ringPos int
-	ringN   int
-	trend   []float64
-	spec    *dsp.Spectrum
-	specBuf []float64
-	ringPh  []float64
-	ringT   []float64
-	liveX   []float64
-	livePh  []float64
-	liveT   []float64
+	ring     []float64 // last frames of the calibrated response
+	ringPos  int
+	ringN    int
+	trend    []float64
+	spec     *dsp.Spectrum
+	specBuf  []float64
+	noiseBuf []float64
+	ringPh   []float64
+	ringT    []float64
+	liveX    []float64
+	livePh   []float64
+	liveT    []float64
 
 	points    []Point
 	legPts    map[Direction][]jump.Point
@@ -476,6 +477,7 @@ func (b *Bench) setDrive(f, a float64, on bool) {
 		b.say("drive on: " + SafetyNote)
 	}
 	b.freq, b.amp, b.driveOn = f, a, on
+	b.errText = ""
 	b.phase = PhaseChanging
 	b.changeT = b.now
 	b.logReq = b.mode == ModeSweep || b.autoLog
@@ -529,6 +531,13 @@ func (b *Bench) manualMove(f float64) {
 		b.say("sweep paused for a manual step; resume to continue the plan")
 	}
 	b.legDir = Manual
+	if !b.driveOn {
+		// With the drive off a step only moves the frequency it will start at.
+		if f > 0 && !math.IsInf(f, 0) {
+			b.freq = f
+		}
+		return
+	}
 	b.setDrive(f, b.amp, true)
 }
 
@@ -541,7 +550,7 @@ func (b *Bench) gotoPlan() {
 	s := b.steps[b.planIdx]
 	b.legDir = s.Direction
 	b.step = b.cfg.Plan.stepNear(s.FreqHz)
-	b.setDrive(s.FreqHz, b.cfg.DriveAmp, true)
+	b.setDrive(s.FreqHz, b.amp, true)
 	if s.Kind == StepReposition {
 		b.logReq = false
 	}
@@ -1215,6 +1224,10 @@ func (b *Bench) snapshot() Snapshot {
 			b.specBuf[i] = b.ring[(b.ringPos-n+i+k)%k]
 		}
 		s.Spectrum = b.spec.Amplitude(nil, b.specBuf)
+		if b.driveOn {
+			b.noiseBuf = b.spec.Density(b.noiseBuf, b.specBuf)
+			s.Noise = noiseFromDensity(b.noiseBuf, info.RateHz/float64(n), b.freq)
+		}
 		s.BinHz = info.RateHz / float64(n)
 		nw := int(math.Min(float64(n), math.Round(4*info.RateHz/math.Max(b.freq, 1))))
 		s.Wave = append([]float64(nil), b.specBuf[n-nw:]...)
@@ -1279,8 +1292,12 @@ func noiseFloor(x []float64, rate, f float64, hs []lockin.Harmonic) float64 {
 		return math.NaN()
 	}
 	sp := dsp.NewSpectrum(n, dsp.Hann, rate)
-	d := sp.Density(nil, x)
-	binHz := rate / float64(n)
+	return noiseFromDensity(sp.Density(nil, x), rate/float64(n), f)
+}
+
+// noiseFromDensity takes the median of a density spectrum over the bins
+// away from DC and from every harmonic and subharmonic (k/1, k/2, k/3) of f.
+func noiseFromDensity(d []float64, binHz, f float64) float64 {
 	var keep []float64
 	for k := 3; k < len(d)-1; k++ {
 		fk := float64(k) * binHz
