@@ -31,6 +31,7 @@ type cli struct {
 	Live       liveCmd       `cmd:"" default:"withargs" help:"Open the live bench screen (the default)."`
 	Sweep      sweepCmd      `cmd:"" help:"Run a sweep plan headless and write a record."`
 	ExampleRig exampleRigCmd `cmd:"" name:"example-rig" help:"Print the built-in demo rig file, a starting point for your own."`
+	Devices    devicesCmd    `cmd:"" help:"List serial ports and sound devices."`
 	Version    versionCmd    `cmd:"" help:"Print the version."`
 }
 
@@ -66,7 +67,7 @@ func run(args []string) int {
 		fmt.Fprintln(os.Stderr, "sweeplock:", perr)
 		return exitMisuse
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
 	defer stop()
 	kctx.BindTo(ctx, (*context.Context)(nil))
 	if err := kctx.Run(); err != nil {
