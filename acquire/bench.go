@@ -473,6 +473,11 @@ func (b *Bench) setDrive(f, a float64, on bool) {
 		return
 	}
 	b.track.reset(f, info.RateHz)
+	b.track.free = b.drv.Info().Kind == "manual"
+	if b.track.free {
+		b.say(fmt.Sprintf("set the generator to %.4f Hz at %.4g %s (turn it up and down gradually); the point starts when the reference reads it",
+			f, a, b.drv.Info().Unit))
+	}
 	if on && !b.driveOn {
 		b.say("drive on: " + SafetyNote)
 	}
@@ -804,7 +809,14 @@ func (b *Bench) onBlock(blk *Block) {
 		}
 	}
 	if b.phase == PhaseChanging {
-		if blk.DriveHz == 0 {
+		if blk.DriveHz == 0 && b.track.free {
+			// A generator set by hand: settle once the reference reads
+			// the frequency asked for.
+			if b.track.matched(b.freq, math.Max(b.step/20, 1e-4*b.freq)) {
+				b.say(fmt.Sprintf("the generator reads %.4f Hz: settling", b.track.f))
+				b.startSettle(blk)
+			}
+		} else if blk.DriveHz == 0 {
 			// The source cannot say when the change reached it: allow for
 			// its latency and the drive's ramp.
 			if b.now-b.changeT >= changeLatencyS {

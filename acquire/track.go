@@ -24,11 +24,21 @@ type phaseTrack struct {
 	maxWin  int
 	minWin  int
 	out     []float64
+	// free: the drive is set by hand, so its frequency may be anywhere:
+	// each fit starts from the window's spectrum peak, not the nominal.
+	free   bool
+	rate   float64
+	fitted bool // a fit has converged since reset
+}
+
+// matched reports whether the tracked frequency agrees with want within tol.
+func (p *phaseTrack) matched(want, tol float64) bool {
+	return p.fitted && math.Abs(p.f-want) <= tol
 }
 
 // reset starts tracking a new drive frequency.
 func (p *phaseTrack) reset(nominalHz, rateHz float64) {
-	p.nominal, p.f = nominalHz, nominalHz
+	p.nominal, p.f, p.rate, p.fitted = nominalHz, nominalHz, rateHz, false
 	p.winT, p.winX = p.winT[:0], p.winX[:0]
 	cyc := rateHz / nominalHz
 	p.minWin = int(8 * cyc)               // fit once 8 cycles are in
@@ -60,9 +70,15 @@ func (p *phaseTrack) phases(b *Block, sig []float64) []float64 {
 		p.winX = append(p.winX[:0], p.winX[over:]...)
 	}
 	if len(p.winT) >= p.minWin && p.minWin > 0 {
-		if fit, err := dsp.Fit4(p.winT, p.winX, p.f); err == nil &&
-			math.Abs(fit.FreqHz-p.nominal) < 0.02*p.nominal {
-			p.f = fit.FreqHz
+		guess := p.f
+		if p.free && !p.fitted {
+			guess = dsp.FreqGuess(p.winX, p.rate)
+		}
+		if guess > 0 {
+			if fit, err := dsp.Fit4(p.winT, p.winX, guess); err == nil &&
+				(p.free || math.Abs(fit.FreqHz-p.nominal) < 0.02*p.nominal) {
+				p.f, p.fitted = fit.FreqHz, true
+			}
 		}
 	}
 	return out

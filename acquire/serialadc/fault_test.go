@@ -99,15 +99,23 @@ func TestSourceBinaryFaults(t *testing.T) {
 			want++
 		}
 	}
-	if seen != want {
-		t.Errorf("%d good frames delivered, %d sent", seen, want)
+	// On a loaded machine the test's consumer can fall behind the reader:
+	// the source then drops whole blocks, counts them and flags the next
+	// block (checkIndexed above checks the flag). Those frames are missing
+	// by design; every other count stays exact.
+	cfg := src.Config()
+	if lost := want - seen; lost < 0 || lost > int(st.Dropped)*cfg.BlockFrames || (st.Dropped == 0 && lost != 0) {
+		t.Errorf("%d good frames delivered, %d sent, %d blocks dropped", seen, want, st.Dropped)
 	}
 	if ds.CRCErrors != corrupted || ds.Garbage != garbageBytes || ds.SeqGaps != runs || ds.LostFrames != lostFrames ||
 		ds.BadHeaders != 0 || ds.ChannelMismatch != 0 {
 		t.Errorf("decode stats %+v; want CRCErrors %d, Garbage %d, SeqGaps %d, LostFrames %d", ds, corrupted, garbageBytes, runs, lostFrames)
 	}
-	if st.Dropped != 0 || st.Errors != corrupted || st.Gaps != runs {
-		t.Errorf("source stats %+v; want no drops, Errors %d, Gaps %d", st, corrupted, runs)
+	if st.Errors != corrupted || st.Gaps < runs || st.Gaps > runs+st.Dropped {
+		t.Errorf("source stats %+v; want Errors %d, Gaps %d (plus one per dropped block at most)", st, corrupted, runs)
+	}
+	if st.Dropped > 0 {
+		t.Logf("the consumer fell behind: %d blocks dropped and flagged", st.Dropped)
 	}
 }
 
@@ -236,8 +244,10 @@ func TestSourceTextFaults(t *testing.T) {
 			missing++
 		}
 	}
-	if missing != 0 {
-		t.Errorf("%d untouched frames were not delivered (%d delivered)", missing, seen)
+	// Frames of blocks dropped because the test's consumer fell behind on
+	// a loaded machine are missing by design (counted, next block flagged).
+	if missing > int(st.Dropped)*src.Config().BlockFrames {
+		t.Errorf("%d untouched frames were not delivered (%d delivered, %d blocks dropped)", missing, seen, st.Dropped)
 	}
 	// A line starting with '!' is bad: counted as BadLines, or as
 	// ColumnErrors when the garbage happens to hold ",," before the first
@@ -247,7 +257,7 @@ func TestSourceTextFaults(t *testing.T) {
 	if ds.BadLines+ds.ColumnErrors < garbageLines+glued || ds.TimeJumps < drops || ds.Rejected() < garbageLines+glued+cuts {
 		t.Errorf("decode stats %+v for %d garbage lines, %d glued, %d drops, %d cuts", ds, garbageLines, glued, drops, cuts)
 	}
-	if st.Dropped != 0 || st.Errors != ds.Rejected() {
+	if st.Errors != ds.Rejected() {
 		t.Errorf("source stats %+v", st)
 	}
 }

@@ -70,7 +70,11 @@ func Run(ctx context.Context, src acquire.Source, drv acquire.Drive, cfg acquire
 	if err != nil {
 		return nil, err
 	}
-	if err := src.Start(runCtx); err != nil {
+	// The source runs on its own context: when the run is interrupted the
+	// bench must go on reading it while it ramps the drive down.
+	srcCtx, stopSrc := context.WithCancel(context.WithoutCancel(ctx))
+	defer stopSrc()
+	if err := src.Start(srcCtx); err != nil {
 		return nil, fmt.Errorf("sweep: starting the source: %w", err)
 	}
 	defer src.Close()
