@@ -78,7 +78,7 @@ type pending struct {
 // Result is one measurement. For Sync it covers one block of whole drive
 // cycles; for LowPass it is a snapshot of the smoothed values.
 //
-// Result returns a pointer to storage the LockIn reuses: the values hold
+// LockIn.Result returns a pointer to storage the LockIn reuses: the values hold
 // until the next call of Push, Reset or Result. Copy what you keep.
 type Result struct {
 	// StartS and EndS are the times in seconds at which the drive phase
@@ -223,9 +223,14 @@ func (l *LockIn) Restarts() int { return l.restarts }
 // seen), ph the drive phase at each frame in cycles, unwrapped and
 // non-decreasing (u = A·cos 2πφ is the drive).
 //
-// In Sync mode Push consumes frames up to and including the first one past
-// the end of the current block and returns how many it consumed and
-// whether a block completed; Result then holds it. Feed the rest:
+// In Sync mode each block's result is the weighted least-squares fit of
+// the offset and all the harmonics at the known drive phase, the
+// multi-harmonic form of the three-parameter (known-frequency) sine fit of
+// IEEE Std 1057 / IEEE Std 1241-2010 Annex B.1; see the package comment and
+// sync.go for the weights and the cost. Push consumes frames up to and
+// including the first one past the end of the current block and returns
+// how many it consumed and whether a block completed; Result then holds
+// it. Feed the rest:
 //
 //	for len(ph) > 0 {
 //		n, done := l.Push(x, t, ph)

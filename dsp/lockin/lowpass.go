@@ -10,16 +10,27 @@ import (
 // Each harmonic is mixed down, m_n = 2·x_n·e^{−j2πk_hφ_n/L} (the factor 2
 // makes the smoothed value the peak amplitude: the mix of
 // x = Re{Z·e^{jθ}} is Z + Z*·e^{−2jθ}), and passed through Order identical
-// first-order stages, each
+// first-order stages τ·s' = u − s, each discretised exactly for the actual
+// interval Δ_n = t_n − t_{n−1} (step-invariant transform, so non-uniform
+// times keep the time constant):
 //
-//	s_n = s_{n−1} + α_n·(u_n − s_{n−1}),  α_n = 1 − e^{−(t_n−t_{n−1})/τ},
+//	later stages:  s_n = s_{n−1} + α_n·(u_n − s_{n−1}),  α_n = 1 − e^{−Δ_n/τ},
 //
-// u_n the previous stage's new output (the mix for the first stage). α_n is
-// the exact discretisation of τ·s' = u − s for an input held over the
-// interval (the step-invariant transform), so the filter keeps its time
-// constant under non-uniform sample times; against the continuous filter
-// H(f) = 1/(1+j2πfτ)^n the only error is of order (t_n−t_{n−1})/τ. The
-// offset is smoothed by the same filter. The filters start from zero.
+// their input u (the previous stage's new output) taken as held over the
+// interval; the first stage takes its input, the mix, as linear between
+// frames (the exact response to a ramp, first-order hold),
+//
+//	first stage:   s_n = s_{n−1} + α_n·(m_{n−1} − s_{n−1}) + b_n·(m_n − m_{n−1}),
+//	               b_n = 1 − (1 − e^{−Δ_n/τ})·τ/Δ_n,
+//
+// because the mix oscillates (at 2f and at the differences of the
+// harmonics) and a held input would let unevenly spaced frames alias that
+// ripple into the output; with linear interpolation the residue is about
+// (ωΔ)²/4·(σ_Δ/Δ)·√(Δ/τ) of a product at ω (σ_Δ the spread of the
+// intervals). Against the continuous H(f) = 1/(1+j2πfτ)^n the error is of
+// order Δ/τ. The offset is smoothed by the same filter. The filters start
+// from zero, the input taken as held at its first value before the first
+// frame (a step). A NaN phase or sample makes the values NaN until Reset.
 
 // lpChunk is the number of frames whose rotors are made at once.
 const lpChunk = 256
@@ -120,6 +131,7 @@ func (p *lowPass) push(l *LockIn, x, t, ph []float64) int {
 			}
 		} else {
 			pw := p.pw
+			pw[0], pw[1] = 1, 0
 			for n, q := range seg {
 				pw[2], pw[3] = l.rot.at(q)
 				l.hChain.run(pw)

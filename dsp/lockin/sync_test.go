@@ -86,23 +86,28 @@ func TestSyncExactRecovery(t *testing.T) {
 		tStep, fStep    float64
 		withTimes       bool
 		steps           []int
+		channels        int // 0: 2
 	}{
 		{name: "coherent 48k 1kHz", rate: 48000, f: 1000, cycles: 20, steps: []int{1, 5, 512, 1 << 30}},
 		{name: "coherent 44.1k 441Hz phase0 0.37", rate: 44100, f: 441, phase0: 0.37, cycles: 10, steps: []int{7, 4096}},
-		{name: "coherent 8k 250Hz with times", rate: 8000, f: 250, cycles: 3, withTimes: true, steps: []int{3, 100}},
-		{name: "non-coherent 48k 1000.37Hz", rate: 48000, f: 1000.37, phase0: 0.123, cycles: 20, steps: []int{1, 5, 512, 1 << 30}},
-		{name: "jittered 48k 1000.37Hz", rate: 48000, f: 1000.37, phase0: 0.5, cycles: 20, jitter: 0.8, withTimes: true, steps: []int{1, 300, 1 << 30}},
+		{name: "coherent 8k 250Hz with times, 3 channels", rate: 8000, f: 250, cycles: 3, withTimes: true, steps: []int{3, 100}, channels: 3},
+		{name: "non-coherent 48k 1000.37Hz", rate: 48000, f: 1000.37, phase0: 0.123, cycles: 20, steps: []int{5, 512, 1 << 30}},
+		{name: "jittered 48k 1000.37Hz", rate: 48000, f: 1000.37, phase0: 0.5, cycles: 20, jitter: 0.8, withTimes: true, steps: []int{3, 1 << 30}},
 		{name: "serial 1kS/s 50.3Hz jittered", rate: 1000, f: 50.3, phase0: 0.9, cycles: 8, jitter: 0.6, withTimes: true, steps: []int{1, 64}},
-		{name: "slow drive 2.3Hz at 192k", rate: 192000, f: 2.3, phase0: 0.2, cycles: 2, steps: []int{4096}},
+		{name: "slow drive 2.3Hz at 192k", rate: 192000, f: 2.3, phase0: 0.2, cycles: 2, steps: []int{4096}, channels: 1},
 		{name: "phase near 1e4 cycles", rate: 48000, f: 1234.5, phase0: 1e4 + 0.25, cycles: 20, steps: []int{1000}},
 		{name: "frequency step inside a block", rate: 48000, f: 1000.37, phase0: 0.1, cycles: 20, tStep: 0.0311, fStep: 1100.5, steps: []int{333, 1 << 30}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			const blocks = 6
+			nch := tc.channels
+			if nch == 0 {
+				nch = 2
+			}
 			n := int(float64(blocks+1)*float64(tc.cycles+1)*tc.rate/tc.f) + 10
-			s := makeStream(2, n, tc.rate, tc.f, tc.phase0, tc.jitter, tc.tStep, tc.fStep, tc.withTimes || tc.jitter != 0, 1)
-			l, err := New(Config{Harmonics: testHarmonics, Channels: 2, Cycles: tc.cycles, RateHz: tc.rate})
+			s := makeStream(nch, n, tc.rate, tc.f, tc.phase0, tc.jitter, tc.tStep, tc.fStep, tc.withTimes || tc.jitter != 0, 1)
+			l, err := New(Config{Harmonics: testHarmonics, Channels: nch, Cycles: tc.cycles, RateHz: tc.rate})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -128,7 +133,7 @@ func TestSyncExactRecovery(t *testing.T) {
 					if !r.OK {
 						t.Fatalf("step %d block %d: not OK", step, k)
 					}
-					for ch := 0; ch < 2; ch++ {
+					for ch := 0; ch < nch; ch++ {
 						off, cs := testSignal(ch)
 						for h, c := range cs {
 							if e := relErr(r.At(ch, h), c.z); e > tolExact {
@@ -505,5 +510,46 @@ func TestSyncRestart(t *testing.T) {
 	}
 	if len(rs) < 8 {
 		t.Errorf("only %d blocks", len(rs))
+	}
+}
+
+// TestSyncTimesAcrossCalls checks the frame times when calls with and
+// without explicit times alternate: without them, frames continue
+// 1/RateHz after the last frame seen, so the block times stay those of a
+// uniform record that starts at 2.5 s.
+func TestSyncTimesAcrossCalls(t *testing.T) {
+	const rate, f, t0 = 1000.0, 10.0, 2.5
+	n := 1000
+	ph := make([]float64, n)
+	tt := make([]float64, n)
+	for i := range ph {
+		tt[i] = t0 + float64(i)/rate
+		ph[i] = 0.05 + f*float64(i)/rate
+	}
+	x := synth(nil, 0, []component{{Harmonic{1, 1}, 1}}, ph)
+	l, _ := New(Config{Harmonics: []Harmonic{{1, 1}}, Cycles: 1, RateHz: rate})
+	var rs []Result
+	for a, k := 0, 0; a < n; k++ {
+		b := min(n, a+37)
+		var tm []float64
+		if k%2 == 0 {
+			tm = tt[a:b]
+		}
+		m, done := l.Push(x[a:b], tm, ph[a:b])
+		if done {
+			rs = append(rs, copyResult(l.Result()))
+		}
+		a += m
+	}
+	if len(rs) < 8 {
+		t.Fatalf("%d blocks", len(rs))
+	}
+	for k, r := range rs {
+		// Boundary at phase k+1: t = t0 + (k+1−0.05)/f.
+		want := t0 + (float64(k+1)-0.05)/f
+		// 1e−12 s: times are sums of a few terms of size 1 s.
+		if math.Abs(r.StartS-want) > 1e-12 || math.Abs(r.EndS-want-1/f) > 1e-12 {
+			t.Errorf("block %d: [%.15g, %.15g], want [%.15g, %.15g]", k, r.StartS, r.EndS, want, want+1/f)
+		}
 	}
 }

@@ -2,6 +2,11 @@ package lockin
 
 import "testing"
 
+// Kernel benchmarks: the inner loops of the Sync fast path over 1024
+// samples, in ns per sample. goertzel3 runs three harmonics per loop,
+// goertzel2 two, goertzel1 one; linear is the check that a chunk's phases
+// lie on a line.
+
 func BenchmarkKernelGoertzel2(b *testing.B) {
 	x := make([]float64, 1024)
 	for i := range x {
