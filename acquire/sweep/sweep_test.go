@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 
 	"github.com/sweeplock/sweeplock/acquire"
@@ -13,15 +14,44 @@ import (
 	"github.com/sweeplock/sweeplock/dsp/duffing"
 )
 
+type runKey struct {
+	path string
+	o    rig.Override
+}
+
+type runOut struct {
+	res *sweep.Result
+	s   *rig.Setup
+}
+
+// runs keeps the sweeps already made: several tests check the same demo
+// sweep (on virtual time a sweep is deterministic for its seed).
+var (
+	runsMu sync.Mutex
+	runs   = map[runKey]runOut{}
+)
+
 // runRig sweeps a rig file on virtual time into a temporary record.
 func runRig(t *testing.T, path string, o rig.Override) (*sweep.Result, *rig.Setup) {
+	t.Helper()
+	runsMu.Lock()
+	defer runsMu.Unlock()
+	if r, ok := runs[runKey{path, o}]; ok {
+		return r.res, r.s
+	}
+	res, s := runRigFresh(t, path, o)
+	runs[runKey{path, o}] = runOut{res, s}
+	return res, s
+}
+
+func runRigFresh(t *testing.T, path string, o rig.Override) (*sweep.Result, *rig.Setup) {
 	t.Helper()
 	out := filepath.Join(t.TempDir(), "run.csv")
 	s, err := rig.Open(path, rig.Options{Virtual: true, RecordPath: out, RecordEager: true, Override: o, Version: "test"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	t.Cleanup(func() { s.Close() })
+	defer s.Close()
 	res, err := sweep.Run(context.Background(), s.Source, s.Drive, s.Bench, sweep.Options{})
 	if err != nil {
 		t.Fatal(err)
