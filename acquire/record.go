@@ -298,10 +298,13 @@ func parseHeader(h []string) (Columns, map[string]int, error) {
 func parseRow(row []string, c Columns, idx map[string]int) (Point, error) {
 	var p Point
 	var firstErr error
+	// Columns a reader cannot do without; the others may be missing from a
+	// record written by an older version, and read as unknown.
+	required := map[string]bool{"time_s": true, "direction": true, "point": true, "freq_set_hz": true, "settled": true}
 	get := func(name string) string {
 		i, ok := idx[name]
 		if !ok || i >= len(row) {
-			if firstErr == nil {
+			if firstErr == nil && (required[name] || strings.HasPrefix(name, "amp_h")) {
 				firstErr = fmt.Errorf("missing %s", name)
 			}
 			return ""
@@ -346,7 +349,9 @@ func parseRow(row []string, c Columns, idx map[string]int) (Point, error) {
 	p.THD = num("thd_pct") / 100
 	p.NoiseDensity = num("noise_" + c.Unit + "_per_rthz")
 	p.Dwell = time.Duration(num("dwell_s") * float64(time.Second))
-	p.MeasureCycles = int(num("measure_cycles"))
+	if mc := num("measure_cycles"); mc > 0 {
+		p.MeasureCycles = int(mc)
+	}
 	p.Settled = get("settled") == "1"
 	p.SettleState = get("settle_state")
 	p.TauS = num("tau_s")

@@ -101,3 +101,20 @@ func FuzzReadRecord(f *testing.F) {
 		}
 	})
 }
+
+// A record written before a column was added still reads: the missing
+// optional column reads as unknown.
+func TestReadRecordWithoutOptionalColumns(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "old.csv")
+	text := "time_s,clock_utc,direction,point,freq_set_hz,freq_meas_hz,drive_amp_A,amp_h1_mm,phase_h1_deg,thd_pct,dwell_s,settled,settle_state\n" +
+		"1.5,2026-12-01T10:00:00.000Z,up,0,37,37.0001,0.2,0.4,-90,0.1,2.5,1,settled\n"
+	os.WriteFile(p, []byte(text), 0o644)
+	rec, err := ReadRecord(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rec.Points) != 1 || rec.Points[0].Amp[0] != 0.4 || !rec.Points[0].Settled || rec.Points[0].MeasureCycles != 0 {
+		t.Errorf("old record read as %+v", rec.Points)
+	}
+}
