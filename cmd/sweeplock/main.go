@@ -31,7 +31,10 @@ type cli struct {
 	Live       liveCmd       `cmd:"" default:"withargs" help:"Open the live bench screen (the default)."`
 	Sweep      sweepCmd      `cmd:"" help:"Run a sweep plan headless and write a record."`
 	ExampleRig exampleRigCmd `cmd:"" name:"example-rig" help:"Print the built-in demo rig file, a starting point for your own."`
+	Fit        fitCmd        `cmd:"" help:"Fit the Duffing model to a sweep record."`
+	Plot       plotCmd       `cmd:"" help:"Draw a sweep record (and its fit) to SVG, PNG or PDF."`
 	Devices    devicesCmd    `cmd:"" help:"List serial ports and sound devices."`
+	Calibrate  calibrateCmd  `cmd:"" help:"Measure the sound card's own response with its output wired to its input."`
 	Version    versionCmd    `cmd:"" help:"Print the version."`
 }
 
