@@ -786,6 +786,11 @@ func (b *Bench) onBlock(blk *Block) {
 		return
 	}
 	ph := blk.PhaseCyc
+	if ph == nil && blk.Flags&FlagGap != 0 {
+		// Times on either side of a gap need not follow on (a reconnect
+		// loses an unknown number of frames): fit only what comes after.
+		b.track.clearWindow()
+	}
 	if ph == nil {
 		// The source does not know the drive's phase: track it.
 		sig := x

@@ -29,6 +29,16 @@ type phaseTrack struct {
 	free   bool
 	rate   float64
 	fitted bool // a fit has converged since reset
+	// sinceFit counts frames since the last fit: the fit runs again every
+	// few cycles, not every block (it costs a few hundred µs).
+	sinceFit int
+	refit    int
+}
+
+// clearWindow forgets the samples fitted so far (after a gap).
+func (p *phaseTrack) clearWindow() {
+	p.winT, p.winX = p.winT[:0], p.winX[:0]
+	p.sinceFit = 0
 }
 
 // matched reports whether the tracked frequency agrees with want within tol.
@@ -69,7 +79,9 @@ func (p *phaseTrack) phases(b *Block, sig []float64) []float64 {
 		p.winT = append(p.winT[:0], p.winT[over:]...)
 		p.winX = append(p.winX[:0], p.winX[over:]...)
 	}
-	if len(p.winT) >= p.minWin && p.minWin > 0 {
+	p.sinceFit += n
+	if len(p.winT) >= p.minWin && p.minWin > 0 && (p.sinceFit >= p.refit || !p.fitted) {
+		p.sinceFit = 0
 		guess := p.f
 		if p.free && !p.fitted {
 			guess = dsp.FreqGuess(p.winX, p.rate)

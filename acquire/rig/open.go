@@ -34,6 +34,9 @@ type Options struct {
 	Seed         int64  // simulated noise seed; 0 keeps the file's
 	Override     Override
 	Version      string
+	// Notices, when not nil, gets plain lines a person should see during
+	// a run: a serial port missing or silent, a manual drive's requests.
+	Notices io.Writer
 }
 
 // Setup is a rig ready to run: its source, drive and bench configuration.
@@ -45,6 +48,12 @@ type Setup struct {
 	Drive   acquire.Drive
 	Bench   acquire.BenchConfig
 	closers []io.Closer
+
+	// Correct, when not nil, is a sound card's own response (complex gain
+	// of input over generator) at a frequency, from its calibration, for a
+	// rig without a reference channel; the bench divides each harmonic by
+	// it (soundcard.go).
+	Correct func(freqHz float64) complex128
 }
 
 // usage marks errors that come from what the user asked for.
@@ -160,6 +169,16 @@ func Build(f *File, text, path string, opt Options) (*Setup, error) {
 	switch f.Source {
 	case "sim":
 		if err := s.buildSim(opt, side); err != nil {
+			s.Close()
+			return nil, err
+		}
+	case "serial":
+		if err := s.buildSerial(opt, side); err != nil {
+			s.Close()
+			return nil, err
+		}
+	case "soundcard":
+		if err := s.buildSoundcard(opt, side); err != nil {
 			s.Close()
 			return nil, err
 		}

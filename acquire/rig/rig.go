@@ -22,7 +22,9 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"github.com/sweeplock/sweeplock/acquire"
+	"github.com/sweeplock/sweeplock/acquire/serialadc"
 	"github.com/sweeplock/sweeplock/acquire/sim"
+	"github.com/sweeplock/sweeplock/acquire/soundcard"
 	"github.com/sweeplock/sweeplock/dsp/lockin"
 )
 
@@ -43,6 +45,11 @@ type File struct {
 	Plan     Plan     `toml:"plan"`
 	Measure  Measure  `toml:"measure"`
 	Sim      *sim.Config
+	Serial   *serialadc.Config // the [serial] table; see serial.go
+	// Soundcard is the [soundcard] table and SoundcardCal its calibration
+	// key; see soundcard.go.
+	Soundcard    *soundcard.Config `toml:"-"`
+	SoundcardCal string            `toml:"-"`
 }
 
 // Response says which channel carries the response and how volts become
@@ -150,7 +157,9 @@ func Parse(name, text string) (*File, error) {
 	f := defaults()
 	var raw struct {
 		File
-		Sim toml.Primitive `toml:"sim"`
+		Sim       toml.Primitive `toml:"sim"`
+		Serial    toml.Primitive `toml:"serial"`
+		Soundcard toml.Primitive `toml:"soundcard"`
 	}
 	raw.File = *f
 	md, err := toml.Decode(text, &raw)
@@ -168,6 +177,14 @@ func Parse(name, text string) (*File, error) {
 			return nil, &KeyError{File: name, Key: "sim", Line: lines["sim"], Msg: err.Error()}
 		}
 		f.Sim = &sc
+	}
+	if md.IsDefined("serial") {
+		if f.Serial, err = decodeSerial(md, raw.Serial, name, lines); err != nil {
+			return nil, err
+		}
+	}
+	if err := f.decodeSoundcard(md, raw.Soundcard, name, lines); err != nil {
+		return nil, err
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0].String()
@@ -193,13 +210,15 @@ func defaults() *File {
 }
 
 var sections = map[string][]string{
-	"":             {"name", "source", "drive", "response", "drive_output", "limits", "plan", "measure", "sim"},
+	"":             {"name", "source", "drive", "response", "drive_output", "limits", "plan", "measure", "sim", "serial", "soundcard"},
 	"response":     {"channel", "reference_channel", "ref_volts_per_drive", "unit", "sensor", "volts_per_unit", "offset_v"},
 	"drive_output": {"amplitude", "max_amplitude", "unit", "ramp"},
 	"limits":       {"max_displacement"},
 	"plan": {"start_hz", "stop_hz", "step_hz", "points", "spacing", "direction", "min_dwell_cycles",
 		"max_dwell", "measure_cycles", "settle_tol", "refine", "refine_steps", "refine_factor"},
-	"measure": {"harmonics", "settle_cycles", "third_flag_pct", "expected_tau", "settle_floor"},
+	"measure":   {"harmonics", "settle_cycles", "third_flag_pct", "expected_tau", "settle_floor"},
+	"serial":    tomlKeys(serialadc.Config{}),
+	"soundcard": soundcardKeys(),
 }
 
 func allowedNear(key string) string {
@@ -209,6 +228,9 @@ func allowedNear(key string) string {
 	}
 	if a, ok := sections[sec]; ok {
 		return strings.Join(a, ", ")
+	}
+	if a, ok := serialAllowed(sec); ok {
+		return a
 	}
 	if strings.HasPrefix(sec, "sim") {
 		return "see `sweeplock example-rig` for the [sim] keys"
@@ -283,6 +305,12 @@ func (f *File) check(name string, lines map[string]int) error {
 			}
 			return bad(key, err.Error())
 		}
+	}
+	if err := f.checkSerial(name, lines); err != nil {
+		return err
+	}
+	if err := f.checkSoundcard(name, lines); err != nil {
+		return err
 	}
 	r := f.Response
 	if r.Channel < 0 {

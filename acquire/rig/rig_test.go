@@ -32,7 +32,7 @@ func TestRigErrorsNameKeyAndLine(t *testing.T) {
 	}
 	cases := []struct {
 		name, old, new, key string
-		want              []string
+		want                []string
 	}{
 		{"unknown key", "step_hz = 0.05", "step_hz = 0.05\nstep_width = 1", "plan.step_width", []string{"unknown key", "allowed", "step_hz"}},
 		{"unknown table key", "q = 60.0", "q = 60.0\nquality = 3", "sim.quality", []string{"unknown key"}},

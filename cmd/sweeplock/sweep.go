@@ -50,7 +50,8 @@ func (c *sweepCmd) Run(ctx context.Context) error {
 		out = rig.NewRecordName(time.Now())
 	}
 	opt := c.options(out)
-	opt.RecordEager = true // fail before the run if the record cannot be made
+	opt.RecordEager = true  // fail before the run if the record cannot be made
+	opt.Notices = os.Stderr // a silent serial port, a generator to set by hand
 	setup, err := rig.Open(c.Rig, opt)
 	if err != nil {
 		return rigError(err)
