@@ -316,7 +316,7 @@ func correct(pts []duffing.Point, p duffing.Params) (Corrected, string) {
 		res.Residuals[i] = r[k]
 		res.ThirdPct = math.Max(res.ThirdPct, 100*c.third[k])
 	}
-	res.RunsZ = runsTest(r)
+	res.RunsZ = runsZ(r)
 	res.Rho = lag1(r, c.up)
 	inflate := 1.0
 	if res.Rho > 0 {
@@ -520,38 +520,9 @@ func median(x []float64) float64 {
 	return 0.5 * (x[n/2-1] + x[n/2])
 }
 
-// runsTest returns the standardized number of runs of equal sign in r
-// (zeros skipped): z = (runs − μ)/σ with, for n1 positive and n2 negative
-// signs, n = n1 + n2, μ = 2n1n2/n + 1 and σ² = 2n1n2(2n1n2 − n)/(n²(n − 1))
-// (A. Wald, J. Wolfowitz, "On a test whether two samples are from the same
-// population", Ann. Math. Statist. 11 (1940) 147–162). Well below zero
-// (−3) means long blocks of one sign: the model misses structure. NaN when
-// a sign is missing or n < 3.
-func runsTest(r []float64) float64 {
-	var n1, n2, runs, last int
-	for _, x := range r {
-		s := 0
-		switch {
-		case x > 0:
-			s = 1
-			n1++
-		case x < 0:
-			s = -1
-			n2++
-		default:
-			continue
-		}
-		if s != last {
-			runs++
-			last = s
-		}
-	}
-	n := float64(n1 + n2)
-	if n1 == 0 || n2 == 0 || n < 3 {
-		return math.NaN()
-	}
-	p := 2 * float64(n1) * float64(n2)
-	mu := p/n + 1
-	v := p * (p - n) / (n * n * (n - 1))
-	return (float64(runs) - mu) / math.Sqrt(v)
+// runsZ is the Wald–Wolfowitz runs statistic of the residuals' signs
+// (duffing.RunsTest): well below zero (−3) means long blocks of one sign.
+func runsZ(r []float64) float64 {
+	_, _, _, z := duffing.RunsTest(r)
+	return z
 }

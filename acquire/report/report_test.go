@@ -446,11 +446,11 @@ func TestRunsTest(t *testing.T) {
 		{"alternating", []float64{1, -1, 1, -1, 1, -1, 1, -1, 1, -1}, 4 / math.Sqrt(20.0/9)},
 	}
 	for _, c := range cases {
-		if z := runsTest(c.r); math.Abs(z-c.z) > tol {
+		if z := runsZ(c.r); math.Abs(z-c.z) > tol {
 			t.Errorf("%s: z = %.15g, want %.15g", c.name, z, c.z)
 		}
 	}
-	if z := runsTest([]float64{1, 2, 3}); !math.IsNaN(z) {
+	if z := runsZ([]float64{1, 2, 3}); !math.IsNaN(z) {
 		t.Errorf("one sign: z = %g, want NaN", z)
 	}
 }

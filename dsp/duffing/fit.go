@@ -957,7 +957,7 @@ func (f *fitter) warn(res *FitResult, r []float64, pts []Point, used []int, opt 
 		}
 		add(WarnOneDirection, "all %d fitted points come from the %s-sweep; the other branch of any bistable band is not seen, so the uncertainties are wider and the jump the other sweep would make is a prediction only", len(used), dir)
 	}
-	if runs, mean, _, z := runsTest(r); z < -3 {
+	if runs, mean, _, z := RunsTest(r); z < -3 {
 		add(WarnResidualRuns, "the residuals change sign only %d times in sweep order where about %.0f are expected (runs test z = %.1f): the model misses structure in the data (harmonics, another mode, drift or unsettled points)", runs-1, mean-1, z)
 	}
 	check := func(name string, iv Interval, pred, std float64) {

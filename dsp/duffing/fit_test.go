@@ -436,7 +436,7 @@ func TestRunsMoments(t *testing.T) {
 					r[i] = 1
 				}
 			}
-			runs, m, v, _ := runsTest(r)
+			runs, m, v, _ := RunsTest(r)
 			mean, variance = m, v
 			sum += float64(runs)
 			sum2 += float64(runs * runs)
@@ -448,10 +448,10 @@ func TestRunsMoments(t *testing.T) {
 			t.Errorf("n1 %d n2 %d: formula mean %.6f var %.6f, enumeration %.6f %.6f", n1, n2, mean, variance, em, ev)
 		}
 	}
-	if runs, _, _, z := runsTest([]float64{1, 1, 1, 1, 1, -1, -1, -1, -1, -1}); runs != 2 || !(z < -2.5) {
+	if runs, _, _, z := RunsTest([]float64{1, 1, 1, 1, 1, -1, -1, -1, -1, -1}); runs != 2 || !(z < -2.5) {
 		t.Errorf("two blocks: runs %d z %.2f", runs, z)
 	}
-	if _, _, _, z := runsTest([]float64{1, 1, 1}); !math.IsNaN(z) {
+	if _, _, _, z := RunsTest([]float64{1, 1, 1}); !math.IsNaN(z) {
 		t.Errorf("one sign: z %g, want NaN", z)
 	}
 }

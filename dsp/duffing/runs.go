@@ -2,7 +2,7 @@ package duffing
 
 import "math"
 
-// runsTest counts the runs of equal sign in the residuals r (zeros are
+// RunsTest counts the runs of equal sign in the residuals r (zeros are
 // skipped) and returns the count, its mean and variance under the
 // hypothesis that the signs are in random order, and the standardized
 // statistic z = (runs − mean)/√variance. With n1 positive and n2 negative
@@ -15,7 +15,7 @@ import "math"
 // Too few runs (z well below 0) means the residuals come in long blocks of
 // one sign: the model misses structure in the data. z is NaN when either
 // sign is missing or n < 3.
-func runsTest(r []float64) (runs int, mean, variance, z float64) {
+func RunsTest(r []float64) (runs int, mean, variance, z float64) {
 	var n1, n2 int
 	last := 0
 	for _, x := range r {
