@@ -255,7 +255,7 @@ func correct(pts []duffing.Point, p duffing.Params) (Corrected, string) {
 	if len(used) < 6 {
 		return res, "fewer than 6 settled points"
 	}
-	sweepOrder(pts, used)
+	duffing.SweepOrder(pts, used)
 	c := &corrFit{base: p.Base}
 	c.bScale = math.Abs(p.Beta)
 	if w0 := p.Omega0(); c.bScale == 0 || aMax > 0 && c.bScale < 1e-6*w0*w0/(aMax*aMax) {
@@ -460,32 +460,6 @@ func (c *corrFit) jumpEnds(pts []duffing.Point, used []int, q [4]float64, iters 
 		return rest, ends, qb, iters, convB
 	}
 	return keep, drop, q2, iters + it2, conv2
-}
-
-// sweepOrder sorts the indices idx of pts into sweep order: the up-sweep
-// ascending in frequency, then the down-sweep descending (stable, so equal
-// frequencies keep their record order).
-func sweepOrder(pts []duffing.Point, idx []int) {
-	slices.SortStableFunc(idx, func(a, b int) int {
-		pa, pb := pts[a], pts[b]
-		if pa.Up != pb.Up {
-			if pa.Up {
-				return -1
-			}
-			return 1
-		}
-		c := 0
-		switch {
-		case pa.FreqHz < pb.FreqHz:
-			c = -1
-		case pa.FreqHz > pb.FreqHz:
-			c = 1
-		}
-		if !pa.Up {
-			c = -c
-		}
-		return c
-	})
 }
 
 // lag1 returns the lag-1 autocorrelation of r, ρ = Σ r_i r_{i+1}/Σ r_i²,

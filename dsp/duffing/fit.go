@@ -195,27 +195,7 @@ func Fit(pts []Point, opt FitOptions) (FitResult, error) {
 		return res, fmt.Errorf("%w: %d settled (%d excluded as not settled); the fit of 4 parameters needs at least 6",
 			ErrTooFewPoints, len(used), res.Excluded)
 	}
-	// Sweep order: up-sweep ascending, then down-sweep descending.
-	slices.SortStableFunc(used, func(a, b int) int {
-		pa, pb := pts[a], pts[b]
-		if pa.Up != pb.Up {
-			if pa.Up {
-				return -1
-			}
-			return 1
-		}
-		c := 0
-		switch {
-		case pa.FreqHz < pb.FreqHz:
-			c = -1
-		case pa.FreqHz > pb.FreqHz:
-			c = 1
-		}
-		if !pa.Up {
-			c = -c
-		}
-		return c
-	})
+	SweepOrder(pts, used)
 	f := &fitter{base: opt.Base}
 	f.setPoints(pts, used)
 	f.findJumps()
@@ -1011,4 +991,30 @@ func (r FitResult) String() string {
 		fmt.Fprintf(&b, "\nwarning (%s): %s", w.Code, w.Text)
 	}
 	return b.String()
+}
+
+// SweepOrder sorts the indices idx of pts into sweep order: the up-sweep
+// ascending in frequency, then the down-sweep descending (stable, so equal
+// frequencies keep their order).
+func SweepOrder(pts []Point, idx []int) {
+	slices.SortStableFunc(idx, func(a, b int) int {
+		pa, pb := pts[a], pts[b]
+		if pa.Up != pb.Up {
+			if pa.Up {
+				return -1
+			}
+			return 1
+		}
+		c := 0
+		switch {
+		case pa.FreqHz < pb.FreqHz:
+			c = -1
+		case pa.FreqHz > pb.FreqHz:
+			c = 1
+		}
+		if !pa.Up {
+			c = -c
+		}
+		return c
+	})
 }
