@@ -176,7 +176,8 @@ type Bench struct {
 	lastPub   time.Time
 	sidecar   *Sidecar
 	finished  bool
-	sweepDone bool // the plan ran to its end
+	sweepDone bool        // the plan ran to its end
+	endStats  SourceStats // the source's counts when it did (the ramp-down after is not measured)
 	runErr    error
 
 	liveAmp   []float64
@@ -572,6 +573,7 @@ func (b *Bench) curStep() Step {
 func (b *Bench) finishSweep() {
 	b.mode = ModeDone
 	b.sweepDone = true
+	b.endStats = b.src.Stats()
 	b.stopWhy = ""
 	b.driveOff("sweep finished; drive ramped down")
 	b.writeSidecar(true)
@@ -724,6 +726,9 @@ func (b *Bench) writeSidecar(completed bool) {
 		sc.Started = time.Now().UTC()
 	}
 	st := b.src.Stats()
+	if b.sweepDone {
+		st = b.endStats
+	}
 	ns := 0
 	for _, p := range b.points {
 		if !p.Settled {
@@ -1211,6 +1216,9 @@ func (b *Bench) snapshot() Snapshot {
 		ThirdLimit: b.cfg.ThirdLimitPct, TrendDt: b.blockS,
 		Points: b.points, Jumps: b.jumps, BandLoHz: b.bandLo, BandHiHz: b.bandHi,
 		Err: b.errText, Finished: b.finished}
+	if b.sweepDone {
+		s.SweepStats = b.endStats
+	}
 	if b.phase >= PhaseSettling {
 		s.SinceSetS = b.now - b.setT
 	}

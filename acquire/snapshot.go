@@ -74,7 +74,10 @@ type Snapshot struct {
 	TimeS  float64 // source time of the latest block
 	Source SourceInfo
 	Stats  SourceStats
-	Drive  DriveInfo
+	// SweepStats are the source's counts when the plan ran to its end
+	// (zero until then): what the sweep's points were measured under.
+	SweepStats SourceStats
+	Drive      DriveInfo
 
 	DriveOn    bool
 	FreqHz     float64 // drive frequency set now

@@ -116,6 +116,9 @@ func Run(ctx context.Context, src acquire.Source, drv acquire.Drive, cfg acquire
 	}
 	res := &Result{Points: last.Points, Jumps: last.Jumps, BandLoHz: last.BandLoHz, BandHiHz: last.BandHiHz,
 		Completed: done, Record: last.RecordPath, Stats: last.Stats, Elapsed: time.Since(start)}
+	if done {
+		res.Stats = last.SweepStats
+	}
 	if !done {
 		res.StopReason = "interrupted"
 		if ctx.Err() == nil && runErr != nil {
