@@ -27,6 +27,10 @@ type BenchConfig struct {
 	// the expected to the measured reference (removing the input's delay
 	// and AC coupling).
 	RefVoltsPerDrive float64
+	// Correct, when set and there is no reference channel, is the input's
+	// own complex response at a frequency (a stored loopback calibration of
+	// a sound card): each harmonic's amplitude is divided by it.
+	Correct func(freqHz float64) complex128
 	// Calibration: display value = (volts − OffsetV)/VoltsPerUnit.
 	VoltsPerUnit, OffsetV float64
 	// Unit is the displacement display unit ("mm").
@@ -933,10 +937,16 @@ func (b *Bench) liveReadout() {
 	}
 }
 
-// toDisp turns a harmonic's complex amplitude of the sensor quantity into
-// displacement (velocity: divide by jω; acceleration: by −ω²).
+// toDisp removes the input's stored response (Correct) from a harmonic's
+// complex amplitude and turns the sensor quantity into displacement
+// (velocity: divide by jω; acceleration: by −ω²).
 func (b *Bench) toDisp(z complex128, h lockin.Harmonic) complex128 {
 	w := 2 * math.Pi * b.freq * h.Ratio()
+	if b.cfg.Correct != nil && b.cfg.Reference < 0 {
+		if c := b.cfg.Correct(b.freq * h.Ratio()); c != 0 && !cmplx.IsNaN(c) {
+			z /= c
+		}
+	}
 	switch b.cfg.SensorKind {
 	case "velocity":
 		return z / complex(0, w)
