@@ -488,6 +488,7 @@ func (b *Bench) setDrive(f, a float64, on bool) {
 	}
 	b.freq, b.amp, b.driveOn = f, a, on
 	b.errText = ""
+	b.measFlags = 0 // a new point: the gaps and overloads met while measuring it
 	b.phase = PhaseChanging
 	b.changeT = b.now
 	b.logReq = b.mode == ModeSweep || b.autoLog
@@ -656,7 +657,8 @@ func (b *Bench) shutdown(err error) error {
 	if b.drv.Amp() > 0 || b.driveOn {
 		done := make(chan struct{})
 		octx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
-		go func() { _ = b.drv.Off(octx); close(done) }()
+		var offErr error
+		go func() { offErr = b.drv.Off(octx); close(done) }()
 		blocks := b.src.Blocks()
 	wait:
 		for {
@@ -674,7 +676,11 @@ func (b *Bench) shutdown(err error) error {
 		cancel()
 		b.driveOn = false
 		b.phase = PhaseOff
-		b.say(fmt.Sprintf("drive ramped down (now %.3g %s)", b.drv.Amp(), b.drv.Info().Unit))
+		if offErr != nil {
+			b.say(fmt.Sprintf("the drive could not be ramped down: %v", offErr))
+		} else {
+			b.say(fmt.Sprintf("drive ramped down (now %.3g %s)", b.drv.Amp(), b.drv.Info().Unit))
+		}
 	}
 	if b.raw != nil {
 		if cerr := b.raw.Close(); cerr != nil && err == nil {
@@ -817,9 +823,18 @@ func (b *Bench) onBlock(blk *Block) {
 			b.det.Update(complex(math.NaN(), math.NaN())) // tells the detector of the gap
 		}
 		if b.phase == PhaseMeasuring {
-			b.measX = b.measX[:0]
+			b.measX, b.measR, b.measP, b.measT = b.measX[:0], b.measR[:0], b.measP[:0], b.measT[:0]
 			b.measFlags |= blk.Flags
-			b.say(fmt.Sprintf("%s in the samples at %.4g Hz: measuring the point again", blk.Flags, b.freq))
+			if blk.Flags&FlagGap != 0 {
+				// A break in the path may have disturbed the resonator too:
+				// settle again before measuring.
+				b.phase = PhaseSettling
+				b.det.Reset(b.blockS)
+				b.decidedT = 0
+				b.say(fmt.Sprintf("gap in the samples at %.4g Hz: settling and measuring the point again", b.freq))
+			} else {
+				b.say(fmt.Sprintf("%s in the samples at %.4g Hz: measuring the point again", blk.Flags, b.freq))
+			}
 		}
 	}
 	if b.phase == PhaseChanging {
@@ -848,7 +863,7 @@ func (b *Bench) onBlock(blk *Block) {
 			tt = t[off:]
 		}
 		used, done := b.pushDC(b.fast, x[off:], tt, ph[off:])
-		if b.phase == PhaseMeasuring {
+		if b.phase == PhaseMeasuring && !spoiled { // never measure across the flagged block
 			if len(b.measX) == 0 {
 				b.measAt = blockFirst + int64(off)
 			}
@@ -1013,7 +1028,6 @@ func (b *Bench) onSettleBlock() {
 func (b *Bench) startMeasure() {
 	b.phase = PhaseMeasuring
 	b.measX, b.measR, b.measP, b.measT = b.measX[:0], b.measR[:0], b.measP[:0], b.measT[:0]
-	b.measFlags = 0
 	if b.measK < 1 {
 		b.measK = b.cfg.Plan.MeasureCycles
 	}

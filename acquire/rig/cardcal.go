@@ -39,8 +39,11 @@ import (
 // as long as the card's gains are not touched; the phase holds only while
 // the card's delay is the one measured, which is why a calibration is
 // refused for a rig whose device, rate, buffer, latency or input differ,
-// or whose stream reports another latency. A reference channel is always
-// the better way to phase.
+// or whose stream reports another latency. Even so a new stream may delay
+// by a different number of frames (through a sound server one stream in
+// several was seen 2400 frames, 50 ms, off the calibration's, with the
+// same reported latency), and nothing without a reference can tell: a
+// reference channel is the way to phase.
 
 // CalFormat names the calibration file's format.
 const CalFormat = "sweeplock-card-response/1"
@@ -283,17 +286,19 @@ const (
 	calMinCycles  = 20
 	calMinSeconds = 0.1
 	// calAgree: the two halves of a measurement must agree to this
-	// fraction of the gain (complex difference). The card's own noise
-	// (16 bits: 3e-5 of full scale) moves a 0.1 s fit of a 0.25 tone by
-	// about 1e-6; a lost or repeated frame inside the measurement moves
-	// the phase by 2πf/fs, 0.1 rad at 1 kHz.
-	calAgree = 2e-3
+	// fraction of the gain (complex difference). Noise of −90 dB full
+	// scale moves a 0.1 s fit of a 0.25 tone by about 3e−6; a lost or
+	// repeated frame inside the measurement moves the phase by 2πf/fs,
+	// 0.1 rad at 1 kHz; the input coupling's transient after the change
+	// (e^{−t/τ}, τ = 1/(2πfc)) changes between the halves until it is
+	// below about this, which bounds what it leaves in the result.
+	calAgree = 2e-4
 	// calResidual: the fit's rms residual must stay below this fraction of
 	// the amplitude (a break inside a half leaves a large residual;
 	// distortion and noise of a working card stay far below it).
 	calResidual = 1e-2
 	// calTries is how many measurements of one frequency may be discarded.
-	calTries = 8
+	calTries = 12
 	// calMargin is added to the reported delay before a measurement
 	// starts, for the sound server.
 	calMargin = 300 * time.Millisecond
@@ -326,18 +331,22 @@ const calPasses = 3
 // whole pass is repeated, up to three times. It starts the card's source;
 // the caller closes the card. The drive is ramped down before it returns.
 func MeasureCard(ctx context.Context, card *soundcard.Card, freqs []float64, opt CalOptions) (*CardCal, error) {
-	cfg := card.Config()
+	in, out := card.Latency()
+	return measureCal(ctx, card.Source(), card.Drive(), card.Config(), in, out, freqs, opt)
+}
+
+// measureCal is MeasureCard on a source and drive that share the clock of
+// a stream with configuration cfg and reported latencies in and out.
+func measureCal(ctx context.Context, src acquire.Source, drv acquire.Drive, cfg soundcard.Config, in, out time.Duration, freqs []float64, opt CalOptions) (*CardCal, error) {
 	if len(freqs) < 2 {
 		return nil, fmt.Errorf("rig: calibration needs at least 2 frequencies, got %d", len(freqs))
 	}
 	if !(opt.LevelFS > 0) || opt.LevelFS > cfg.MaxLevel {
 		return nil, fmt.Errorf("rig: calibration level %g: must be above 0 and at most the card's max_level %g: %w", opt.LevelFS, cfg.MaxLevel, acquire.ErrDriveLimit)
 	}
-	src, drv := card.Source(), card.Drive()
 	if err := src.Start(ctx); err != nil {
 		return nil, fmt.Errorf("rig: calibration: %w", err)
 	}
-	in, out := card.Latency()
 	m := &cardMeter{ctx: ctx, src: src, drv: drv, rate: cfg.RateHz, level: opt.LevelFS,
 		delay: in + out + calMargin, input: cfg.ResponseChannel, last: math.MaxUint64}
 	defer func() {
@@ -382,9 +391,10 @@ func MeasureCard(ctx context.Context, card *soundcard.Card, freqs []float64, opt
 			cal.Points = append(cal.Points, p)
 			say("%10.4f Hz  gain %+8.4f dB  phase %+8.3f° (delay taken out)%s", f, 20*math.Log10(p.Gain), p.PhaseDeg, retryNote(tries))
 		}
-		// The delay must not have moved during the pass.
+		// The delay must not have moved during the pass: the first and the
+		// last probe measured again.
 		drift := 0.0
-		for _, pr := range probes {
+		for _, pr := range []probe{probes[0], probes[len(probes)-1]} {
 			z, _, err := m.measure(pr.f)
 			if err != nil {
 				return nil, err

@@ -48,12 +48,6 @@ type Setup struct {
 	Drive   acquire.Drive
 	Bench   acquire.BenchConfig
 	closers []io.Closer
-
-	// Correct, when not nil, is a sound card's own response (complex gain
-	// of input over generator) at a frequency, from its calibration, for a
-	// rig without a reference channel; the bench divides each harmonic by
-	// it (soundcard.go).
-	Correct func(freqHz float64) complex128
 }
 
 // usage marks errors that come from what the user asked for.

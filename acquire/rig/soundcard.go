@@ -161,6 +161,21 @@ func (f *File) checkSoundcard(name string, lines map[string]int) error {
 func (s *Setup) buildSoundcard(opt Options, side *acquire.Sidecar) error {
 	f := s.File
 	cfg := *f.Soundcard
+	// A calibration is read and checked against the plan before the card
+	// opens, and against the stream once it is open.
+	var cal *CardCal
+	calPath := ""
+	if f.SoundcardCal != "" && cfg.ReferenceChannel < 0 {
+		calPath = CalPath(s.Path, f.SoundcardCal)
+		var err error
+		if cal, err = ReadCardCal(calPath); err != nil {
+			return usage{err}
+		}
+		lo, hi := harmonicSpan(s.Bench.Plan, s.Bench.Harmonics)
+		if err := cal.Covers(lo, hi); err != nil {
+			return usage{fmt.Errorf("%s: %w", calPath, err)}
+		}
+	}
 	card, err := soundcard.Open(cfg, soundcard.Options{})
 	if err != nil {
 		if errors.Is(err, soundcard.ErrConfig) {
@@ -190,28 +205,17 @@ func (s *Setup) buildSoundcard(opt Options, side *acquire.Sidecar) error {
 		"latency_s": cfg.Latency.Seconds(), "response_channel": cfg.ResponseChannel, "reference_channel": cfg.ReferenceChannel,
 		"output_channels": cfg.OutputChannels, "max_level": cfg.MaxLevel, "ramp_s": cfg.Ramp.Seconds(),
 		"reported_latency_in_s": in.Seconds(), "reported_latency_out_s": out.Seconds()}
-	if f.SoundcardCal != "" {
-		path := CalPath(s.Path, f.SoundcardCal)
-		if cfg.ReferenceChannel >= 0 {
-			if opt.Notices != nil {
-				notice(opt.Notices, fmt.Sprintf("sound card: the calibration %s is not applied: with a reference channel the response is taken as a ratio to it", path))
-			}
-		} else {
-			cal, err := ReadCardCal(path)
-			if err != nil {
-				return usage{err}
-			}
-			if err := cal.Fits(cfg, src.Info().Name, in+out); err != nil {
-				return usage{fmt.Errorf("%w: %s: %v", ErrRig, path, err)}
-			}
-			lo, hi := harmonicSpan(s.Bench.Plan, s.Bench.Harmonics)
-			if err := cal.Covers(lo, hi); err != nil {
-				return usage{fmt.Errorf("%w: %s: %v", ErrRig, path, err)}
-			}
-			s.Correct = cal.Correction()
-			params["calibration"] = path
-			params["calibration_delay_s"] = cal.DelayS
+	switch {
+	case cal != nil:
+		if err := cal.Fits(cfg, src.Info().Name, in+out); err != nil {
+			return usage{fmt.Errorf("%s: %w", calPath, err)}
 		}
+		s.Bench.Correct = cal.Correction()
+		params["calibration"] = calPath
+		params["calibration_delay_s"] = cal.DelayS
+	case f.SoundcardCal != "" && opt.Notices != nil:
+		notice(opt.Notices, fmt.Sprintf("sound card: the calibration %s is not applied: with a reference channel the response is taken as a ratio to it",
+			CalPath(s.Path, f.SoundcardCal)))
 	}
 	side.Rig.Params = params
 	return nil
@@ -241,11 +245,11 @@ func CalPath(rigPath, name string) string {
 //     next block passed on gets FlagGap. The card flags the block in which
 //     its reference broke, so the break lies inside the flagged block,
 //     while the bench takes a flagged block as clean data after a gap and
-//     may measure on it; and for one block more the path (a filter, the
-//     resonator) may still ring from the break. Holding back one block
-//     after the flagged one makes a measurement that starts again after a
-//     gap start at least a block (43 ms at 2048 frames and 48 kHz) after
-//     the break.
+//     may measure on it. Holding back one block more makes a measurement
+//     that starts again after a gap start at least a block (43 ms at 2048
+//     frames and 48 kHz) after the break, when a short ring-down in the
+//     path (a filter) is over. A resonator disturbed by a break in its
+//     drive rings far longer; only settling again covers that.
 //   - With a manual drive (an external generator) PhaseCyc, DriveHz and
 //     DriveAmp are cleared: the card's own generator is silent and the
 //     bench must track the generator on the reference input.
