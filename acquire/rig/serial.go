@@ -16,6 +16,7 @@ import (
 
 	"github.com/sweeplock/sweeplock/acquire"
 	"github.com/sweeplock/sweeplock/acquire/serialadc"
+	"github.com/sweeplock/sweeplock/acquire/soundcard"
 )
 
 // A rig with source = "serial" reads a microcontroller ADC over a serial
@@ -131,7 +132,9 @@ func (f *File) checkSerial(name string, lines map[string]int) error {
 	case "sim":
 		return bad("drive", `"sim" drives the simulated rig only; with source = "serial" use drive = "manual" (an external generator you set by hand)`)
 	case "soundcard":
-		return bad("drive", `"soundcard" with source = "serial" is not available in this build yet; use drive = "manual" (an external generator you set by hand)`)
+		// The sound card's output drives; its inputs are not read. The
+		// bench tracks the drive's frequency from the response (or the
+		// reference channel) by a sine fit, since the two clocks differ.
 	}
 	resp := serialIndex(c, c.Response)
 	if _, written := lines["response.channel"]; written && f.Response.Channel != resp {
@@ -187,11 +190,27 @@ func (s *Setup) buildSerial(opt Options, side *acquire.Sidecar) error {
 	if c.Reference != "" {
 		s.Bench.Reference = serialIndex(c, c.Reference)
 	}
-	drv, err := s.manualDrive(opt.Notices)
-	if err != nil {
-		return err
+	if f.Drive == "soundcard" {
+		cfg := soundcard.DefaultConfig()
+		if f.Soundcard != nil {
+			cfg = *f.Soundcard
+		}
+		card, err := soundcard.Open(cfg, soundcard.Options{})
+		if err != nil {
+			if errors.Is(err, soundcard.ErrConfig) {
+				return usage{fmt.Errorf("%w: %v", ErrRig, err)}
+			}
+			return err
+		}
+		s.closers = append(s.closers, card)
+		s.Drive = card.Drive()
+	} else {
+		drv, err := s.manualDrive(opt.Notices)
+		if err != nil {
+			return err
+		}
+		s.Drive = drv
 	}
-	s.Drive = drv
 	side.Rig.Params = map[string]any{"port": c.Port, "baud": c.Baud, "format": c.Format, "channels": c.Channels,
 		"response": c.Response, "reference": c.Reference, "rate_hz": c.RateHz, "block_frames": c.BlockFrames,
 		"values": c.Values, "counts_min": c.CountsMin, "counts_max": c.CountsMax, "timestamps": c.Timestamps}

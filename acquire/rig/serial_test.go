@@ -13,6 +13,7 @@ import (
 
 	"github.com/sweeplock/sweeplock/acquire"
 	"github.com/sweeplock/sweeplock/acquire/serialadc"
+	"github.com/sweeplock/sweeplock/acquire/soundcard"
 )
 
 const serialExample = "../../testdata/serial-example.toml"
@@ -77,7 +78,6 @@ func TestSerialRigErrors(t *testing.T) {
 		{"channel index", "unit = \"mm\"", "channel = 1\nunit = \"mm\"", "response.channel", "channel = 1", `[serial] response = "tip" is channel 0`},
 		{"reference index", "unit = \"mm\"", "reference_channel = 0\nunit = \"mm\"", "response.reference_channel", "reference_channel", `reference = "drive"`},
 		{"sim drive", `drive = "manual"`, `drive = "sim"`, "drive", "drive =", `use drive = "manual"`},
-		{"soundcard drive", `drive = "manual"`, `drive = "soundcard"`, "drive", "drive =", "not available"},
 		{"sensor", "stall_timeout", "sensor = \"velocity\"\nstall_timeout", "serial.sensor", "sensor = \"velocity\"", `[response] sensor = "displacement"`},
 		{"no table", "[serial]", "[serial_not]", "serial_not", "[serial_not]", "unknown key"},
 	}
@@ -242,5 +242,37 @@ func TestSerialNotices(t *testing.T) {
 	waitFor("generator: turn the amplitude down to 0 V, gradually")
 	if n := strings.Count(out.String(), ": no data for"); n != 1 {
 		t.Errorf("%d waiting notices with a one-hour repeat:\n%s", n, out.String())
+	}
+}
+
+// A serial source with the sound card's output as the drive parses, and
+// a build without sound card support says so plainly when it is built.
+func TestSerialWithSoundcardDrive(t *testing.T) {
+	text := strings.Replace(readText(t, serialExample), `drive = "manual"`, `drive = "soundcard"`, 1)
+	f, err := Parse(serialExample, text)
+	if err != nil {
+		t.Fatalf("serial source with a sound card drive: %v", err)
+	}
+	if f.Drive != "soundcard" {
+		t.Fatalf("drive = %q", f.Drive)
+	}
+	leader, follower, err := pty.Open()
+	if err != nil {
+		t.Skipf("no pseudo-terminals here: %v", err)
+	}
+	defer leader.Close()
+	defer follower.Close()
+	f.Serial.Port = follower.Name()
+	s, err := Build(f, text, serialExample, Options{})
+	if err == nil {
+		// Built with -tags portaudio and a sound device: the drive is the card's.
+		defer s.Close()
+		if s.Drive.Info().Kind != "soundcard" {
+			t.Errorf("drive kind %q", s.Drive.Info().Kind)
+		}
+		return
+	}
+	if !errors.Is(err, soundcard.ErrNotBuilt) && !errors.Is(err, soundcard.ErrDevice) {
+		t.Errorf("building a serial rig with a sound card drive: %v", err)
 	}
 }

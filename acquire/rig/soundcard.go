@@ -90,8 +90,8 @@ func (f *File) checkSoundcard(name string, lines map[string]int) error {
 		return nil
 	}
 	if f.Source != "soundcard" {
-		if f.Soundcard != nil {
-			return bad("soundcard", fmt.Sprintf(`a [soundcard] table goes with source = "soundcard"; this rig has source = %q`, f.Source))
+		if f.Soundcard != nil && !(f.Source == "serial" && f.Drive == "soundcard") {
+			return bad("soundcard", fmt.Sprintf(`a [soundcard] table goes with source = "soundcard" (or drive = "soundcard" with source = "serial"); this rig has source = %q`, f.Source))
 		}
 		return nil
 	}
