@@ -37,8 +37,8 @@ type lmResult struct {
 //
 // (Marquardt's scaling by the diagonal, which makes the step independent
 // of the units of the parameters, as in J. J. Moré, "The
-// Levenberg–Marquardt algorithm: implementation and theory", Lecture Notes
-// in Mathematics 630 (1978) 105–116). λ follows the gain ratio
+// Levenberg–Marquardt algorithm: implementation and theory", in
+// Numerical Analysis, Springer LNM 630 (1978) 105–116). λ follows the gain ratio
 // ρ = actual/predicted decrease: on success λ ← λ·max(1/3, 1 − (2ρ − 1)³),
 // on failure λ ← λ·ν, ν ← 2ν (the update of H. B. Nielsen, "Damping
 // parameter in Marquardt's method", IMM-REP-1999-05, DTU; from memory).
