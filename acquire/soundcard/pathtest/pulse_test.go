@@ -83,7 +83,12 @@ func startDaemon(t *testing.T, script string, inProcess bool) *daemon {
 		t.Fatalf("starting a private PulseAudio: %v: %s", err, out)
 	}
 	t.Cleanup(func() {
-		d.command("pulseaudio", "--kill").Run()
+		if d.command("pulseaudio", "--kill").Run() != nil {
+			// --kill finds the daemon through its runtime folder; if that
+			// failed, end it through its pid file so no daemon outlives
+			// the test.
+			d.killHard()
+		}
 		if t.Failed() {
 			if b, err := os.ReadFile(d.log); err == nil {
 				lines := strings.Split(strings.TrimSpace(string(b)), "\n")
