@@ -129,8 +129,6 @@ type Bench struct {
 	setT      float64
 	blockS    float64
 	dc        float64
-	refDC     float64
-	pendingOK bool
 
 	track phaseTrack
 
@@ -165,7 +163,6 @@ type Bench struct {
 	legPts    map[Direction][]jump.Point
 	refPts    []jump.Point // points of the refinement round in progress
 	refJump   int          // index in jumps of the jump being refined
-	refLevel  int
 	jumps     []JumpJSON
 	bandLo    float64
 	bandHi    float64
@@ -467,11 +464,16 @@ func (b *Bench) setDrive(f, a float64, on bool) {
 		b.fail(fmt.Sprintf("frequency %.4g Hz refused: harmonic %.4g would pass the Nyquist frequency %.4g Hz", f, b.maxHarmonic(), info.RateHz/2))
 		return
 	}
+	b.measK = b.cfg.Plan.MeasureCycles
 	if b.drv.Info().Coherent && info.RateHz > 0 {
-		f, b.measK, b.measN = b.coherent(f)
-	} else {
-		b.measK = b.cfg.Plan.MeasureCycles
-		b.measN = 0
+		// The measurement block must hold whole cycles of every
+		// subharmonic too; the frequency moves by at most a fiftieth of a
+		// step (or 1 ppm) to make it coherent.
+		den := 1
+		for _, h := range b.cfg.Harmonics {
+			den = lcm(den, h.Den)
+		}
+		f, b.measK, _ = CoherentFreq(f, info.RateHz, b.measK, 2*b.measK+den, den, math.Max(b.step/50, f*1e-6))
 	}
 	if err := b.drv.Set(f, a); err != nil {
 		b.fail(err.Error())
@@ -501,31 +503,6 @@ func (b *Bench) maxHarmonic() float64 {
 		m = math.Max(m, h.Ratio())
 	}
 	return m
-}
-
-// coherent picks the exact frequency near f for which the measurement block
-// (at least MeasureCycles cycles, a multiple of every subharmonic's
-// denominator) spans whole samples.
-func (b *Bench) coherent(f float64) (float64, int, int) {
-	den := 1
-	for _, h := range b.cfg.Harmonics {
-		den = lcm(den, h.Den)
-	}
-	rate := b.src.Info().RateHz
-	minK := b.cfg.Plan.MeasureCycles
-	tol := math.Max(b.step/50, f*1e-6)
-	bestF, bestK, bestN, bestE := f, 0, 0, math.Inf(1)
-	for k := (minK + den - 1) / den * den; k <= 2*minK+den; k += den {
-		n := int(math.Round(float64(k) * rate / f))
-		fk := float64(k) * rate / float64(n)
-		if e := math.Abs(fk - f); e < bestE {
-			bestF, bestK, bestN, bestE = fk, k, n, e
-		}
-		if bestE <= tol {
-			break
-		}
-	}
-	return bestF, bestK, bestN
 }
 
 func lcm(a, b int) int {
@@ -862,7 +839,7 @@ func (b *Bench) onBlock(blk *Block) {
 		if t != nil {
 			tt = t[off:]
 		}
-		used, done := b.pushDC(b.fast, x[off:], tt, ph[off:])
+		used, done := b.pushSettle(b.fast, x[off:], tt, ph[off:])
 		if b.phase == PhaseMeasuring && !spoiled { // never measure across the flagged block
 			if len(b.measX) == 0 {
 				b.measAt = blockFirst + int64(off)
@@ -881,15 +858,15 @@ func (b *Bench) onBlock(blk *Block) {
 			break
 		}
 	}
-	if b.phase == PhaseMeasuring && b.measN > 0 && len(b.measX) >= b.measN {
+	if b.phase == PhaseMeasuring && len(b.measX) >= b.measN {
 		b.finishMeasure()
 	}
 }
 
-// pushDC feeds the settle lock-in and keeps the response's offset (for
+// pushSettle feeds the settle lock-in and keeps the response's offset (for
 // the displacement limit). The lock-in fits the offset with the harmonics,
 // so the level does not leak into them.
-func (b *Bench) pushDC(l *lockin.LockIn, x, t, ph []float64) (int, bool) {
+func (b *Bench) pushSettle(l *lockin.LockIn, x, t, ph []float64) (int, bool) {
 	n, done := l.Push(x[:len(ph)], t, ph)
 	if done {
 		b.dc = l.Result().Offset(0)

@@ -259,20 +259,26 @@ func (p Plan) stepNear(f float64) float64 {
 
 // CoherentFreq returns the frequency nearest to targetHz at which a block
 // of cycles whole drive cycles spans a whole number of samples at rateHz,
-// and that number of cycles and samples. It tries cycle counts from
-// minCycles up to maxCycles and takes the first whose frequency lies within
-// tolHz of the target, else the closest found. Coherent sampling makes the
+// and that number of cycles and samples. It tries the cycle counts from
+// minCycles up to maxCycles that are multiples of multiple (so that every
+// subharmonic k/multiple completes whole cycles too) and takes the first
+// whose frequency lies within tolHz of the target, else the closest found. Coherent sampling makes the
 // block's harmonics exactly orthogonal in the sum (common practice; the
 // method of IEEE Std 1241, "coherent sampling").
-func CoherentFreq(targetHz, rateHz float64, minCycles, maxCycles int, tolHz float64) (freqHz float64, cycles, samples int) {
-	if minCycles < 1 {
-		minCycles = 1
+func CoherentFreq(targetHz, rateHz float64, minCycles, maxCycles, multiple int, tolHz float64) (freqHz float64, cycles, samples int) {
+	if multiple < 1 {
+		multiple = 1
 	}
+	if minCycles < multiple {
+		minCycles = multiple
+	}
+	minCycles = (minCycles + multiple - 1) / multiple * multiple
 	if maxCycles < minCycles {
 		maxCycles = minCycles
 	}
+	freqHz = targetHz
 	bestErr := math.Inf(1)
-	for k := minCycles; k <= maxCycles; k++ {
+	for k := minCycles; k <= maxCycles; k += multiple {
 		n := int(math.Round(float64(k) * rateHz / targetHz))
 		if n < 2 {
 			continue

@@ -55,7 +55,7 @@ func TestPlanValidate(t *testing.T) {
 // whole samples exactly: f = k·fs/n (coherent sampling, IEEE Std 1241).
 func TestCoherentFreq(t *testing.T) {
 	for _, target := range []float64{12.345, 37.1, 1000.37, 4321.9} {
-		f, k, n := CoherentFreq(target, 48000, 20, 200, 1e-3)
+		f, k, n := CoherentFreq(target, 48000, 20, 200, 1, 1e-3)
 		if f != float64(k)*48000/float64(n) {
 			t.Errorf("%g: f=%v is not k·fs/n (%d, %d)", target, f, k, n)
 		}
@@ -69,6 +69,10 @@ func TestCoherentFreq(t *testing.T) {
 		e := math.Abs(f - target)
 		if k < 20 || (best <= 1e-3 && e > 1e-3) || (best > 1e-3 && e != best) {
 			t.Errorf("%g: got %v with %d cycles (error %g, best possible %g)", target, f, k, e, best)
+		}
+		// With a 1/6 subharmonic the cycle count must be a multiple of 6.
+		if f6, k6, n6 := CoherentFreq(target, 48000, 20, 200, 6, 1e-3); k6%6 != 0 || f6 != float64(k6)*48000/float64(n6) {
+			t.Errorf("%g with multiples of 6: %v Hz, %d cycles, %d samples", target, f6, k6, n6)
 		}
 	}
 }

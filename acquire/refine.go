@@ -74,7 +74,7 @@ func (b *Bench) planRefine(ji, level int) {
 	}
 	rest := append([]Step(nil), b.steps[b.planIdx+1:]...)
 	b.steps = append(append(b.steps[:b.planIdx+1], steps...), rest...)
-	b.refJump, b.refLevel, b.refPts = ji, level, b.refPts[:0]
+	b.refJump, b.refPts = ji, b.refPts[:0]
 	b.say(fmt.Sprintf("refining the %s-sweep jump (%.4f..%.4f Hz), round %d: going back beyond the band and re-approaching in %.4g Hz steps",
 		j.Direction, lo, hi, level, fine))
 }
