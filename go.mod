@@ -3,7 +3,6 @@ module github.com/sweeplock/sweeplock
 go 1.26.8
 
 require (
-	charm.land/bubbles/v2 v2.2.1
 	charm.land/bubbletea/v2 v2.1.1
 	charm.land/lipgloss/v2 v2.1.0
 	github.com/BurntSushi/toml v1.6.0
@@ -41,5 +40,4 @@ require (
 	golang.org/x/image v0.30.0 // indirect
 	golang.org/x/sync v0.22.0 // indirect
 	golang.org/x/text v0.28.0 // indirect
-	golang.org/x/tools v0.36.0 // indirect
 )
