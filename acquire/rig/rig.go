@@ -298,10 +298,9 @@ func (f *File) check(name string, lines map[string]int) error {
 		f.Sim.DriveUnit = f.DriveCfg.Unit
 		if err := f.Sim.Validate(); err != nil {
 			key := "sim"
-			for k := range lines {
-				if strings.HasPrefix(k, "sim.") && strings.Contains(err.Error(), strings.TrimPrefix(k, "sim.")) {
-					key = k
-				}
+			var ce *sim.ConfigError
+			if errors.As(err, &ce) {
+				key = "sim." + ce.Field
 			}
 			return bad(key, err.Error())
 		}

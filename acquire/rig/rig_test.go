@@ -83,3 +83,16 @@ func FuzzParse(f *testing.F) {
 		}
 	})
 }
+
+// A bad value in the [sim] table names its key and line.
+func TestSimValueErrorNamesKey(t *testing.T) {
+	text := strings.Replace(DemoText(), "q = 60.0 ", "q = 0.1 ", 1)
+	if text == DemoText() {
+		t.Fatal("the demo has no q line to change")
+	}
+	_, err := Parse("my.toml", text)
+	var ke *KeyError
+	if !errors.As(err, &ke) || ke.Key != "sim.q" || ke.Line == 0 {
+		t.Fatalf("got %v, want a KeyError for sim.q with its line", err)
+	}
+}
