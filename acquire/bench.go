@@ -177,6 +177,7 @@ type Bench struct {
 	lastPub   time.Time
 	sidecar   *Sidecar
 	finished  bool
+	final     Snapshot    // the last snapshot, kept when Run ends
 	sweepDone bool        // the plan ran to its end
 	endStats  SourceStats // the source's counts when it did (the ramp-down after is not measured)
 	runErr    error
@@ -671,10 +672,16 @@ func (b *Bench) shutdown(err error) error {
 		}
 	}
 	b.finished = true
+	b.final = b.snapshot()
 	b.publish(true)
 	b.emit(Event{Kind: EventStopped, Text: b.stopWhy})
 	return err
 }
+
+// Final returns the bench's last snapshot, with everything logged. Call it
+// after Run has returned (Latest's one slot may have been read by a
+// watcher already).
+func (b *Bench) Final() Snapshot { return b.final }
 
 func (b *Bench) openRecord() error {
 	if b.rec != nil || b.cfg.RecordPath == "" {

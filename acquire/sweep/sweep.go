@@ -81,7 +81,6 @@ func Run(ctx context.Context, src acquire.Source, drv acquire.Drive, cfg acquire
 	if err := b.StartSweep(); err != nil {
 		return nil, err
 	}
-	var last acquire.Snapshot
 	progDone := make(chan struct{})
 	stopProg := make(chan struct{})
 	go func() {
@@ -110,10 +109,7 @@ func Run(ctx context.Context, src acquire.Source, drv acquire.Drive, cfg acquire
 		fmt.Fprint(opt.Progress, "\r\x1b[K")
 	}
 	// The final snapshot holds everything logged.
-	select {
-	case last = <-b.Latest():
-	default:
-	}
+	last := b.Final()
 	res := &Result{Points: last.Points, Jumps: last.Jumps, BandLoHz: last.BandLoHz, BandHiHz: last.BandHiHz,
 		Completed: done, Record: last.RecordPath, Stats: last.Stats, Elapsed: time.Since(start)}
 	if done {

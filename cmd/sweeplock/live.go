@@ -73,13 +73,7 @@ func (c *liveCmd) Run(ctx context.Context) error {
 		return fmt.Errorf("the bench did not stop within %v: check that the drive is off", benchStopWait)
 	}
 	stopSrc()
-	final := screen.Last()
-	select {
-	case s := <-bench.Latest():
-		final = s
-	default:
-	}
-	tui.Summary(os.Stdout, final, out)
+	tui.Summary(os.Stdout, bench.Final(), out)
 	switch {
 	case runErr != nil && !errors.Is(runErr, context.Canceled):
 		return runErr
